@@ -1,0 +1,1 @@
+//! pathsieve: Liouville-pathway enumeration and exact phase-cycle design and checking.
