@@ -1,0 +1,40 @@
+//! Command-line syntax (clap) and dispatch to one module per subcommand.
+
+mod agnostic_cmd;
+mod output;
+mod pathways_cmd;
+
+use clap::{Parser, Subcommand};
+
+/// Pathway enumeration and exact phase-cycle design and checking for multidimensional
+/// spectroscopy.
+#[derive(Parser, Debug)]
+#[command(name = "pathsieve", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// List every Liouville pathway of an experiment with its phase signature and class.
+    Pathways(pathways_cmd::PathwaysArgs),
+    /// List the agnostic rejection set: every signature a cycle must cancel through an order.
+    Agnostic(agnostic_cmd::AgnosticArgs),
+}
+
+/// Run the parsed command; returns the exit code.
+pub fn run(cli: Cli) -> anyhow::Result<u8> {
+    match cli.command {
+        Command::Pathways(a) => pathways_cmd::run(a),
+        Command::Agnostic(a) => agnostic_cmd::run(a),
+    }
+}
+
+/// True when the error is a closed output pipe (e.g. `| head`), which is not a failure.
+pub fn is_broken_pipe(e: &anyhow::Error) -> bool {
+    e.chain().any(|c| {
+        c.downcast_ref::<std::io::Error>()
+            .is_some_and(|io| io.kind() == std::io::ErrorKind::BrokenPipe)
+    })
+}

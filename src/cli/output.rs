@@ -1,0 +1,45 @@
+//! Shared output helpers for the subcommands: stdout writing, JSON, tables, file output.
+
+use anyhow::Context;
+use comfy_table::{presets::UTF8_FULL_CONDENSED, ContentArrangement, Table};
+use std::io::Write;
+use std::path::Path;
+
+/// Write text to stdout, flushing; a closed pipe surfaces as an io error the caller ignores.
+pub fn print(text: &str) -> anyhow::Result<()> {
+    let mut out = std::io::stdout().lock();
+    out.write_all(text.as_bytes())?;
+    out.flush()?;
+    Ok(())
+}
+
+/// Pretty JSON of a serialisable value, with a trailing newline, to stdout.
+pub fn print_json<T: serde::Serialize>(value: &T) -> anyhow::Result<()> {
+    let mut s = serde_json::to_string_pretty(value)?;
+    s.push('\n');
+    print(&s)
+}
+
+/// A table with our house style and the given header.
+pub fn table(header: &[&str]) -> Table {
+    let mut t = Table::new();
+    t.load_preset(UTF8_FULL_CONDENSED)
+        .set_content_arrangement(ContentArrangement::Dynamic)
+        .set_header(header.iter().copied());
+    t
+}
+
+/// Write bytes to a file without ever leaving a half-written one (temporary file + rename).
+pub fn write_file(path: &Path, bytes: &[u8]) -> anyhow::Result<()> {
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let mut tmp = tempfile::NamedTempFile::new_in(dir)
+        .with_context(|| format!("cannot write into directory {}", dir.display()))?;
+    tmp.write_all(bytes)
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    tmp.persist(path)
+        .with_context(|| format!("cannot create {}", path.display()))?;
+    Ok(())
+}

@@ -1,0 +1,350 @@
+//! `pathsieve pathways`: the enumerator's listing, grouped summary, text and SVG diagrams.
+
+use super::output::{print, print_json, table, write_file};
+use anyhow::{bail, Context};
+use clap::Args;
+use pathsieve::experiment_file::read_experiment;
+use pathsieve::limits::MAX_LISTED_PATHWAYS;
+use pathsieve::model::{Experiment, PathwayClass};
+use pathsieve::pathways::{self, for_each_pathway, resolve_signals, summarize, Pathway, Scope};
+use pathsieve::render::{self, diagram_svg, diagram_text};
+use pathsieve::signature::Signature;
+use serde::Serialize;
+use std::path::PathBuf;
+
+/// Arguments of `pathsieve pathways`.
+#[derive(Args, Debug)]
+pub struct PathwaysArgs {
+    /// Experiment file (TOML, see docs/experiment-format.md).
+    file: PathBuf,
+    /// Enumerate every pathway through the order (each pulse acting any number of times,
+    /// lower orders included), not only the signal pathways.
+    #[arg(long)]
+    all: bool,
+    /// With --all: enumerate through this order instead of the experiment's.
+    #[arg(long, value_name = "K")]
+    through: Option<u32>,
+    /// Print only the summary by signature (streams: memory does not grow with pathway count).
+    #[arg(long)]
+    summary: bool,
+    /// Add each pathway's complex-conjugate partner (emission and pump-probe detection).
+    #[arg(long)]
+    conjugates: bool,
+    /// Keep only pathways of a class (R, NR, 2Q, other, GSB, SE, ESA) or with a signature
+    /// such as `-1,1,1,-1`.
+    #[arg(long, value_name = "SPEC")]
+    select: Option<String>,
+    /// Print a text diagram of each listed pathway.
+    #[arg(long)]
+    diagrams: bool,
+    /// Draw the double-sided diagrams of the listed pathways into this SVG file.
+    #[arg(long, value_name = "OUT.svg")]
+    svg: Option<PathBuf>,
+    /// Machine-readable JSON on stdout instead of tables.
+    #[arg(long)]
+    json: bool,
+}
+
+enum Selector {
+    Class(PathwayClass),
+    Population(&'static str),
+    Signature(Signature),
+}
+
+impl Selector {
+    fn parse(text: &str, exp: &Experiment) -> anyhow::Result<Self> {
+        let t = text.trim();
+        if let Some(c) = PathwayClass::parse(t) {
+            return Ok(Selector::Class(c));
+        }
+        for p in ["GSB", "SE", "ESA"] {
+            if t.eq_ignore_ascii_case(p) {
+                return Ok(Selector::Population(p));
+            }
+        }
+        let parts: Result<Vec<i64>, _> = t
+            .trim_matches(|c| c == '(' || c == ')')
+            .split(',')
+            .map(|x| x.trim().trim_start_matches('+').parse::<i64>())
+            .collect();
+        match parts {
+            Ok(v) if v.len() == exp.fields.len() => Ok(Selector::Signature(Signature(v))),
+            Ok(v) => bail!(
+                "--select: signature has {} components, the experiment has {} fields ({})",
+                v.len(),
+                exp.fields.len(),
+                exp.field_names().join(", ")
+            ),
+            Err(_) => bail!("--select `{t}`: use a class (R, NR, 2Q, other, GSB, SE, ESA) or a signature like -1,1,1,-1"),
+        }
+    }
+
+    fn keeps(&self, p: &Pathway) -> bool {
+        match self {
+            Selector::Class(c) => p.class == *c,
+            Selector::Population(name) => p.population_class.is_some_and(|pc| pc.short() == *name),
+            Selector::Signature(s) => p.signature == *s,
+        }
+    }
+}
+
+#[derive(Serialize)]
+struct Report<'a> {
+    tool: &'static str,
+    version: &'static str,
+    experiment: &'a str,
+    detection: &'static str,
+    fields: Vec<String>,
+    scope: String,
+    order: u32,
+    pathways: Option<Vec<PathwayRow>>,
+    summary: pathways::Summary,
+    wanted: Vec<pathways::ResolvedSignal>,
+}
+
+#[derive(Serialize)]
+struct PathwayRow {
+    sequence: String,
+    delays: Vec<String>,
+    final_element: String,
+    direction: String,
+    #[serde(flatten)]
+    pathway: Pathway,
+}
+
+/// Run the subcommand.
+pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
+    let exp = read_experiment(&a.file)?;
+    if a.through.is_some() && !a.all {
+        bail!("--through K goes with --all (every pathway through order K)");
+    }
+    let scope = if a.all {
+        let k = a.through.unwrap_or(exp.order);
+        if k == 0 || k > pathsieve::limits::MAX_ORDER {
+            bail!("--through {k}: use 1..={}", pathsieve::limits::MAX_ORDER);
+        }
+        Scope::Through(k)
+    } else {
+        Scope::Signal
+    };
+    let selector = a
+        .select
+        .as_deref()
+        .map(|s| Selector::parse(s, &exp))
+        .transpose()?;
+    let resolved = resolve_signals(&exp).context("resolving the wanted signals")?;
+    let wanted: Vec<(String, Vec<Signature>)> = resolved
+        .iter()
+        .map(|r| (r.name.clone(), r.kept.clone()))
+        .collect();
+    let summary = summarize(&exp, scope, a.conjugates, &wanted);
+
+    let listing = !a.summary || a.svg.is_some();
+    let mut rows: Vec<Pathway> = Vec::new();
+    if listing {
+        let mut count = 0u64;
+        for_each_pathway(&exp, scope, |p| {
+            if selector.as_ref().is_none_or(|s| s.keeps(p)) {
+                count += 1;
+            }
+        });
+        let factor = if a.conjugates && pathways::needs_conjugate_rows(&exp) {
+            2
+        } else {
+            1
+        };
+        if count * factor > MAX_LISTED_PATHWAYS {
+            bail!(
+                "{} pathways would be listed, above the listing limit of {MAX_LISTED_PATHWAYS}; use --summary (streams), or --select to narrow",
+                count * factor
+            );
+        }
+        let add_conj = a.conjugates && pathways::needs_conjugate_rows(&exp);
+        for_each_pathway(&exp, scope, |p| {
+            if selector.as_ref().is_none_or(|s| s.keeps(p)) {
+                rows.push(p.clone());
+                if add_conj {
+                    rows.push(p.conjugated());
+                }
+            }
+        });
+    }
+    let scope_text = match scope {
+        Scope::Signal => "signal pathways (each pulse acts its set number of times)".to_string(),
+        Scope::Through(k) => format!("every pathway through order {k}"),
+    };
+    if let Some(path) = &a.svg {
+        if rows.is_empty() {
+            bail!("no pathway to draw; check --select");
+        }
+        let title = format!("{} — {} pathways", exp.title, rows.len());
+        write_file(
+            path,
+            diagram_svg::diagrams_svg(&exp, &rows, &title).as_bytes(),
+        )?;
+        if !a.json {
+            eprintln!("wrote {} diagrams to {}", rows.len(), path.display());
+        }
+    }
+    if a.json {
+        let labels = exp.wavevector_labels();
+        let pathways = (!a.summary).then(|| {
+            rows.iter()
+                .map(|p| PathwayRow {
+                    sequence: render::sequence_label(&exp, p),
+                    delays: p
+                        .delays
+                        .iter()
+                        .map(|e| render::element_label(&exp, e))
+                        .collect(),
+                    final_element: render::element_label(&exp, &p.final_element),
+                    direction: pulse_direction(&exp, &p.signature, &labels),
+                    pathway: p.clone(),
+                })
+                .collect()
+        });
+        print_json(&Report {
+            tool: "pathsieve",
+            version: env!("CARGO_PKG_VERSION"),
+            experiment: &exp.title,
+            detection: exp.detection.label(),
+            fields: exp.field_names(),
+            scope: scope_text,
+            order: exp.order,
+            pathways,
+            summary,
+            wanted: resolved,
+        })?;
+        return Ok(0);
+    }
+    let mut out = String::new();
+    out.push_str(&format!(
+        "{}\n  detection: {}; fields: {}; order {}; {}\n\n",
+        exp.title,
+        exp.detection.label(),
+        exp.field_names().join(", "),
+        exp.order,
+        scope_text
+    ));
+    if !a.summary {
+        let labels = exp.wavevector_labels();
+        let mut t = table(&[
+            "#",
+            "interactions",
+            "elements in the delays",
+            "sign",
+            "signature",
+            "k_s",
+            "class",
+            "final",
+            "weight",
+        ]);
+        for (i, p) in rows.iter().enumerate() {
+            let class = match p.population_class {
+                Some(pc) => format!("{} {}", p.class.short(), pc.short()),
+                None => p.class.short().to_string(),
+            };
+            let class = if p.conjugate {
+                format!("{class} c.c.")
+            } else {
+                class
+            };
+            t.add_row(vec![
+                (i + 1).to_string(),
+                render::sequence_label(&exp, p),
+                render::delays_label(&exp, p),
+                format!("{:+}", p.sign),
+                p.signature.to_string(),
+                pulse_direction(&exp, &p.signature, &labels),
+                class,
+                if p.coherence_orders.is_empty() {
+                    render::element_label(&exp, &p.final_element)
+                } else {
+                    "-".into()
+                },
+                format!("{:+.3}", p.weight),
+            ]);
+        }
+        out.push_str(&format!("{t}\n"));
+        if a.diagrams {
+            for (i, p) in rows.iter().enumerate() {
+                out.push_str(&format!(
+                    "\n#{} {} {}\n",
+                    i + 1,
+                    p.class.short(),
+                    p.signature
+                ));
+                out.push_str(&diagram_text::diagram_text(&exp, p));
+            }
+        }
+        out.push('\n');
+    }
+    out.push_str(&summary_table(&exp, &summary));
+    for r in &resolved {
+        let kept: Vec<String> = r.kept.iter().map(|s| s.to_string()).collect();
+        out.push_str(&format!("wanted `{}`: keeps {}\n", r.name, kept.join(" ")));
+        for c in &r.contamination {
+            out.push_str(&format!(
+                "  note: {} also carries {} {} pathway(s){} — no phase cycle can separate them\n",
+                c.kept,
+                c.count,
+                c.class.short(),
+                if c.via_conjugate {
+                    " as complex conjugates"
+                } else {
+                    ""
+                }
+            ));
+        }
+    }
+    print(&out)?;
+    Ok(0)
+}
+
+fn pulse_direction(exp: &Experiment, s: &Signature, labels: &[String]) -> String {
+    let pulses = exp.pulse_indices();
+    let part = Signature(pulses.iter().map(|&j| s.0[j]).collect());
+    let l: Vec<String> = pulses.iter().map(|&j| labels[j].clone()).collect();
+    part.direction(&l)
+}
+
+fn summary_table(exp: &Experiment, s: &pathways::Summary) -> String {
+    let mut t = table(&[
+        "signature",
+        "k_s",
+        "pathways",
+        "classes",
+        "phase matched",
+        "wanted by",
+    ]);
+    let labels = exp.wavevector_labels();
+    for e in &s.signatures {
+        let classes: Vec<String> = e
+            .classes
+            .iter()
+            .map(|(c, n)| format!("{} {n}", c.short()))
+            .collect();
+        let _ = &labels;
+        t.add_row(vec![
+            e.signature.to_string(),
+            e.direction.clone(),
+            if e.conjugates > 0 {
+                format!("{} ({} c.c.)", e.count, e.conjugates)
+            } else {
+                e.count.to_string()
+            },
+            classes.join(", "),
+            if e.phase_matched {
+                "yes".into()
+            } else {
+                "no".into()
+            },
+            e.wanted_by.join(", "),
+        ]);
+    }
+    format!(
+        "summary: {} pathways in {} signatures\n{t}\n",
+        s.total,
+        s.signatures.len()
+    )
+}

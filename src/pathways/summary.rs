@@ -1,0 +1,114 @@
+//! The grouped summary: pathways counted per signature, streamed so that memory grows with the
+//! number of distinct signatures, never with the number of pathways.
+
+use super::{for_each_pathway, Pathway, Scope};
+use crate::model::{Experiment, PathwayClass};
+use crate::signature::Signature;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// Pathway counts for one signature.
+#[derive(Clone, Debug, Serialize)]
+pub struct SignatureSummary {
+    /// The signature over all fields.
+    pub signature: Signature,
+    /// Phase-matching direction over the pulses, e.g. `-kp1+kp2+kp3`.
+    pub direction: String,
+    /// Pathways with this signature.
+    pub count: u64,
+    /// Of those, how many are complex-conjugate partner rows.
+    pub conjugates: u64,
+    /// Counts per class.
+    pub classes: BTreeMap<PathwayClass, u64>,
+    /// Sum of the pathways' relative weights (sign, dipoles, yields).
+    pub weight_sum: f64,
+    /// True when the term survives the beam geometry.
+    pub phase_matched: bool,
+    /// Names of the outputs that keep this signature.
+    pub wanted_by: Vec<String>,
+}
+
+/// The summary of an enumeration.
+#[derive(Clone, Debug, Serialize)]
+pub struct Summary {
+    /// All pathways counted (conjugate rows included when asked for).
+    pub total: u64,
+    /// One entry per signature, sorted by order then signature.
+    pub signatures: Vec<SignatureSummary>,
+}
+
+/// Count pathways per signature. With `conjugates`, emission-type detection also counts each
+/// pathway's complex-conjugate partner (population detection lists both already).
+/// `wanted` pairs an output name with the signatures it keeps.
+pub fn summarize(
+    exp: &Experiment,
+    scope: Scope,
+    conjugates: bool,
+    wanted: &[(String, Vec<Signature>)],
+) -> Summary {
+    let mut map: BTreeMap<Signature, (u64, u64, BTreeMap<PathwayClass, u64>, f64)> =
+        BTreeMap::new();
+    let mut total = 0u64;
+    let add_conjugates = conjugates && needs_conjugate_rows(exp);
+    let mut add = |p: &Pathway, conj: bool| {
+        total += 1;
+        let entry = map
+            .entry(if conj {
+                p.signature.conjugate()
+            } else {
+                p.signature.clone()
+            })
+            .or_insert_with(|| (0, 0, BTreeMap::new(), 0.0));
+        entry.0 += 1;
+        if conj {
+            entry.1 += 1;
+        }
+        *entry.2.entry(p.class).or_insert(0) += 1;
+        entry.3 += p.weight;
+    };
+    for_each_pathway(exp, scope, |p| {
+        add(p, false);
+        if add_conjugates {
+            add(p, true);
+        }
+    });
+    let labels = exp.wavevector_labels();
+    let pulses = exp.pulse_indices();
+    let mut signatures: Vec<SignatureSummary> = map
+        .into_iter()
+        .map(|(signature, (count, conj, classes, weight_sum))| {
+            let pulse_part = Signature(pulses.iter().map(|&j| signature.0[j]).collect());
+            let pulse_labels: Vec<String> = pulses.iter().map(|&j| labels[j].clone()).collect();
+            SignatureSummary {
+                direction: pulse_part.direction(&pulse_labels),
+                phase_matched: exp.is_phase_matched(&signature),
+                wanted_by: wanted
+                    .iter()
+                    .filter(|(_, sigs)| sigs.contains(&signature))
+                    .map(|(n, _)| n.clone())
+                    .collect(),
+                signature,
+                count,
+                conjugates: conj,
+                classes,
+                weight_sum,
+            }
+        })
+        .collect();
+    signatures.sort_by(|a, b| {
+        a.signature
+            .weight()
+            .cmp(&b.signature.weight())
+            .then_with(|| b.signature.cmp(&a.signature))
+    });
+    Summary { total, signatures }
+}
+
+/// True when the enumerator lists only the positive-frequency half of a real signal, so the
+/// conjugate partners must be added as rows of their own.
+pub fn needs_conjugate_rows(exp: &Experiment) -> bool {
+    matches!(
+        exp.detection,
+        crate::model::Detection::Emission | crate::model::Detection::PumpProbe
+    )
+}

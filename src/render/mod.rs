@@ -1,0 +1,56 @@
+//! Renderers that turn library results into text or SVG bytes. No rendering here decides
+//! anything: each takes a finished result struct.
+
+pub mod diagram_svg;
+pub mod diagram_text;
+pub mod svg;
+
+use crate::model::Experiment;
+use crate::pathways::{Direction, Element, Interaction, Pathway, Side};
+
+/// `|ket><bra|` with state names.
+pub fn element_label(exp: &Experiment, e: &Element) -> String {
+    match &exp.levels {
+        Some(l) => format!("|{}><{}|", l.name(e.ket), l.name(e.bra)),
+        None => format!("|{}><{}|", e.ket, e.bra),
+    }
+}
+
+/// A compact form of one interaction: `p1:bra↑`.
+pub fn interaction_label(exp: &Experiment, i: &Interaction) -> String {
+    let side = match i.side {
+        Side::Ket => "ket",
+        Side::Bra => "bra",
+    };
+    let arrow = match i.direction {
+        Direction::Up => "↑",
+        Direction::Down => "↓",
+    };
+    format!("{}:{side}{arrow}", exp.fields[i.field].name)
+}
+
+/// The whole interaction sequence of a pathway, or its coherence orders for NMR.
+pub fn sequence_label(exp: &Experiment, p: &Pathway) -> String {
+    if !p.coherence_orders.is_empty() {
+        return p
+            .coherence_orders
+            .iter()
+            .map(|o| o.to_string())
+            .collect::<Vec<_>>()
+            .join(" → ");
+    }
+    p.interactions
+        .iter()
+        .map(|i| interaction_label(exp, i))
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// The elements in each delay joined by arrows.
+pub fn delays_label(exp: &Experiment, p: &Pathway) -> String {
+    p.delays
+        .iter()
+        .map(|e| element_label(exp, e))
+        .collect::<Vec<_>>()
+        .join(" → ")
+}

@@ -1,0 +1,36 @@
+//! Shared helpers for the integration tests: build experiments from inline TOML.
+#![allow(dead_code)]
+
+use pathsieve::experiment_file::parse_experiment;
+use pathsieve::model::Experiment;
+
+/// Parse inline experiment TOML, panicking with the error text (tests only).
+pub fn exp(text: &str) -> Experiment {
+    parse_experiment(text, "inline.toml".as_ref()).unwrap_or_else(|e| panic!("{e}"))
+}
+
+/// `n` pulse field tables named 1..n, optionally followed by an LO.
+pub fn pulses(n: usize, lo: bool) -> String {
+    let mut s = String::new();
+    for j in 1..=n {
+        s.push_str(&format!("[[field]]\nname = \"{j}\"\n"));
+    }
+    if lo {
+        s.push_str("[[field]]\nname = \"LO\"\nkind = \"lo\"\n");
+    }
+    s
+}
+
+/// A two-level scheme.
+pub const TWO_LEVEL: &str =
+    "[levels]\nstates = [{ name = \"g\", manifold = 0 }, { name = \"e\", manifold = 1 }]\n";
+
+/// A three-level ladder g-e-f.
+pub const LADDER: &str = "[levels]\nstates = [{ name = \"g\", manifold = 0 }, { name = \"e\", manifold = 1 }, { name = \"f\", manifold = 2 }]\n";
+
+/// Path of a bundled scheme.
+pub fn scheme(name: &str) -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("schemes")
+        .join(name)
+}
