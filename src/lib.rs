@@ -1,4 +1,5 @@
 //! pathsieve: Liouville-pathway enumeration and exact phase-cycle design and checking.
 #![deny(missing_docs)]
 
+pub mod export;
 pub mod safe_write;
