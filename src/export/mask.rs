@@ -319,6 +319,26 @@ pub fn mask(spec: &MaskSpec, phases_turns_for_step: &[f64]) -> Result<Vec<Comple
 /// steps are kept, so weights computed for the cycle still apply; the factor is reported in
 /// [`MaskSet::scale`].
 ///
+/// # Example
+/// Two equal sub-pulses 500 fs apart, second one cycled through 0 and 1/2 turn:
+/// ```
+/// use pathsieve::export::mask::{masks_for_cycle, mask_set_npy, Calibration, MaskSpec, SubPulse};
+/// let spec = MaskSpec {
+///     calibration: Calibration::Linear { pixels: 640, first_thz: 360.0, step_thz: 0.05 },
+///     subpulses: vec![
+///         SubPulse { delay_fs: 0.0, amplitude: 1.0, phase_turns: 0.0 },
+///         SubPulse { delay_fs: 500.0, amplitude: 1.0, phase_turns: 0.0 },
+///     ],
+///     rotating_frame_thz: Some(375.0),
+/// };
+/// let set = masks_for_cycle(&spec, &[vec![0.0, 0.0], vec![0.0, 0.5]])?;
+/// assert_eq!(set.scale, 0.5); // |M| reaches 2 at 375 THz in step 0
+/// assert_eq!(set.masks.len(), 2);
+/// let npy_bytes = mask_set_npy(&set)?;
+/// # assert!(!npy_bytes.is_empty());
+/// # Ok::<(), pathsieve::export::mask::MaskError>(())
+/// ```
+///
 /// # Errors
 /// As [`mask`] (naming the step), plus [`MaskError::NoSteps`] and [`MaskError::TooLarge`].
 pub fn masks_for_cycle(spec: &MaskSpec, steps: &[Vec<f64>]) -> Result<MaskSet, MaskError> {
