@@ -32,8 +32,10 @@
 pub mod agnostic;
 pub mod error;
 pub mod experiment_file;
+pub mod export;
 pub mod limits;
 pub mod model;
 pub mod pathways;
 pub mod render;
+pub mod safe_write;
 pub mod signature;
