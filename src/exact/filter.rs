@@ -1,0 +1,1 @@
+//! Fast exact evaluation of cycle filters (placeholder).
