@@ -182,11 +182,19 @@ impl Cyclo {
         self.add(&other.neg())
     }
 
-    /// Exact product (schoolbook convolution on integer numerators, then reduction).
+    /// Exact product: schoolbook convolution on the integer numerators (cost `O(phi(n)^2)`
+    /// big-integer products; a single-term factor costs only a shift) and a reduction.
     pub fn mul(&self, other: &Cyclo) -> Result<Cyclo, ExactError> {
         let (a, b) = self.common(other)?;
         if a.is_zero() || b.is_zero() {
             return Cyclo::zero(a.order);
+        }
+        // A single-term factor c*zeta^k: shift and scale instead of a full convolution.
+        for (x, y) in [(&a, &b), (&b, &a)] {
+            if let Some((k, c)) = x.single_term() {
+                let q = Q::new(c.clone(), x.den.clone());
+                return Ok(y.mul_root_of_unity(k as i64).scale(&q));
+            }
         }
         let mut poly = vec![BigInt::zero(); a.num.len() + b.num.len() - 1];
         for (i, x) in a.num.iter().enumerate() {
@@ -200,6 +208,13 @@ impl Cyclo {
             }
         }
         Cyclo::from_int_poly(a.order, poly, &a.den * &b.den)
+    }
+
+    /// `Some((k, c))` if the numerator has exactly one nonzero entry `c` at index `k`.
+    fn single_term(&self) -> Option<(usize, &BigInt)> {
+        let mut it = self.num.iter().enumerate().filter(|(_, c)| !c.is_zero());
+        let first = it.next()?;
+        it.next().is_none().then_some(first)
     }
 
     /// Multiply by `zeta_n^k` (`n` the current order): an index shift and a reduction.

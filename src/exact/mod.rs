@@ -3,6 +3,27 @@
 //! ([`cyclo`]), fast exact evaluation of cycle filters ([`filter`]) and the text forms of phases
 //! and weights used by cycle files ([`parse`]). Decisions on leakage are made here, never with
 //! floats; floats appear only in `to_complex`/`approx` helpers meant for display.
+//!
+//! ```
+//! use pathsieve::exact::{parse_phase, parse_weight, ExactFilter, PhaseUnit, PhaseValue, WeightValue};
+//!
+//! // Two steps, phases 0 and 1/2 turn on one field, weights +1/2 and -1/2.
+//! let phase = |s| match parse_phase(s, PhaseUnit::Degrees) {
+//!     Ok(PhaseValue::Exact(t)) => t,
+//!     other => panic!("{other:?}"),
+//! };
+//! let weight = |s| match parse_weight(s) {
+//!     Ok(WeightValue::Exact(c)) => c,
+//!     other => panic!("{other:?}"),
+//! };
+//! let f = ExactFilter::new(
+//!     &[vec![phase("0")], vec![phase("180")]],
+//!     &[weight("1/2"), weight("-1/2")],
+//! )
+//! .unwrap();
+//! assert!(f.is_zero(&[0]).unwrap()); // b = 0 is cancelled exactly
+//! assert_eq!(f.eval(&[1]).unwrap().to_string(), "1"); // b = 1 passes with F = 1
+//! ```
 
 pub mod cyclo;
 pub mod cyclotomic;

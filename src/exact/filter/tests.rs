@@ -4,6 +4,7 @@
 use super::*;
 use crate::exact::cyclo::Q;
 use num_rational::Ratio;
+use num_traits::Pow;
 use proptest::prelude::*;
 
 fn t(n: i64, d: i64) -> Turns {
@@ -126,6 +127,18 @@ fn input_errors() {
         ExactFilter::new(&big, &w[..1]),
         Err(ExactError::OrderTooLarge { .. })
     ));
+}
+
+#[test]
+fn i128_overflow_in_reduction_falls_back_to_big_integers() {
+    // Phi_105 has coefficients -2 (Migotti 1883); reducing 2^126 * x^104 modulo it overflows
+    // i128, so the exact test must fall back to big integers and still answer.
+    let w = Cyclo::root_of_unity(105, 104)
+        .unwrap()
+        .scale(&Q::from_integer(BigInt::from(2).pow(126u32)));
+    let f = ExactFilter::new(&[vec![t(0, 1)]], &[w.clone()]).unwrap();
+    assert!(!f.is_zero(&[0]).unwrap());
+    assert_eq!(f.eval(&[0]).unwrap(), w);
 }
 
 /// Random cycle on an M grid; weights either exp(-i t.phi)/N (monomial) or random sums.
