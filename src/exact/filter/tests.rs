@@ -136,7 +136,7 @@ fn i128_overflow_in_reduction_falls_back_to_big_integers() {
     let w = Cyclo::root_of_unity(105, 104)
         .unwrap()
         .scale(&Q::from_integer(BigInt::from(2).pow(126u32)));
-    let f = ExactFilter::new(&[vec![t(0, 1)]], &[w.clone()]).unwrap();
+    let f = ExactFilter::new(&[vec![t(0, 1)]], std::slice::from_ref(&w)).unwrap();
     assert!(!f.is_zero(&[0]).unwrap());
     assert_eq!(f.eval(&[0]).unwrap(), w);
 }
