@@ -35,7 +35,10 @@ pub use cyclo::{Cyclo, Q};
 pub use cyclotomic::{cyclotomic_polynomial, euler_phi};
 
 pub use filter::{ExactFilter, Scratch};
-pub use parse::{parse_phase, parse_weight, PhaseUnit, PhaseValue, WeightValue};
+pub use parse::{
+    parse_phase, parse_weight, PhaseParseError, PhaseUnit, PhaseValue, WeightParseError,
+    WeightValue,
+};
 pub use turns::{common_denominator, reduce_turn, snap_to_fraction, Turns};
 
 /// Largest cyclotomic order `n` (field `Q(zeta_n)`, common phase denominator) accepted by this
