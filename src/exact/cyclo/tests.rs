@@ -1,5 +1,6 @@
 //! Unit tests for [`super::Cyclo`]; identities are standard facts about roots of unity
-//! (e.g. Washington, Introduction to Cyclotomic Fields, 1997, ch. 2) or hand computations.
+//! (e.g. Washington, Introduction to Cyclotomic Fields, 1997, ch. 2 (memory)) or hand
+//! computations.
 
 use super::*;
 use proptest::prelude::*;
