@@ -230,7 +230,8 @@ mod tests {
     #[test]
     fn phi_105_has_coefficient_minus_two() {
         // Common knowledge in number theory (Migotti 1883): 105 = 3*5*7 is the smallest order
-        // with a coefficient outside {-1, 0, 1}; the coefficient -2 appears (at x^7 and x^41; positions from memory, confirmed by the Moebius-product test above).
+        // with a coefficient outside {-1, 0, 1}; the coefficient -2 appears at x^7 and x^41
+        // (positions from memory, confirmed by the Moebius-product test above).
         let p = cyclotomic_polynomial(105).unwrap();
         assert!(p.contains(&-2));
         assert_eq!(p[7], -2);
