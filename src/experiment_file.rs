@@ -274,7 +274,7 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
     let order = match (&detection, raw.order) {
         (Detection::Nmr { .. }, None) => n_pulses,
         (_, None) => {
-            return Err(InputError::new(&ctx.path, None, Some("order"), "missing `order`: the number of field interactions of the wanted signal, e.g. 3 for third-order emission, 4 for population-detected 2D"))
+            return Err(InputError::new(&ctx.path, None, Some("order"), "missing `order`: add `order = N` at the top of the file, N = number of field interactions of the wanted signal (3 for third-order emission, 4 for population-detected 2D)"))
         }
         (_, Some(o)) => {
             let v = *o.get_ref();
@@ -371,6 +371,7 @@ fn build_levels(ctx: &Ctx, raw: Spanned<RawLevels>) -> Result<LevelScheme, Input
             yield_weight: y,
         });
     }
+    let names_in_order: Vec<String> = states.iter().map(|s| s.name.clone()).collect();
     let lookup = |n: &Spanned<String>, key: &str| -> Result<usize, InputError> {
         index.get(n.get_ref().trim()).copied().ok_or_else(|| {
             ctx.err(
@@ -379,7 +380,7 @@ fn build_levels(ctx: &Ctx, raw: Spanned<RawLevels>) -> Result<LevelScheme, Input
                 format!(
                     "unknown state `{}`; declared states are: {}",
                     n.get_ref(),
-                    index.keys().cloned().collect::<Vec<_>>().join(", ")
+                    names_in_order.join(", ")
                 ),
             )
         })

@@ -31,6 +31,7 @@
 
 pub mod agnostic;
 pub mod error;
+pub mod exact;
 pub mod experiment_file;
 pub mod export;
 pub mod limits;
