@@ -28,6 +28,7 @@ impl Svg {
     }
 
     /// A straight line.
+    #[allow(clippy::too_many_arguments)]
     pub fn line(
         &mut self,
         x1: f64,
