@@ -8,12 +8,12 @@
 //! valid lattice in engine order (diagonal entries by ascending divisors, row by
 //! row; then reduced off-diagonal entries, first column slowest).
 
-use std::sync::atomic::AtomicBool;
+use std::sync::atomic::{AtomicBool, AtomicU64};
 
 use num_rational::Ratio;
 use rayon::prelude::*;
 
-use super::engine::{Engine, Sink};
+use super::engine::{order_key, Engine, Sink};
 use super::lattice::Lattice;
 use super::problem::{LatticeProblem, Reduced};
 use super::seed::{korobov_seed, nested_seed};
@@ -162,58 +162,61 @@ fn run(
     let finish = |l: Lattice, proven: bool, below: u64, tested: u64| {
         SearchOutcome::Found(design(problem, l, proven, below, tested, nested_bound))
     };
-    for n in 1..=problem.max_steps {
+    // Windows [lo, hi) of doubling width; every lattice of index below `lo` is
+    // excluded once the previous windows finished without a valid lattice.
+    let cap = problem.max_steps + 1;
+    let mut lo = 1u64;
+    while lo < cap {
+        let mut hi = (lo * 2).min(cap);
+        if let Some(l) = nested.as_ref().filter(|_| limit == 1 && nested_exact) {
+            // The nested seed is valid: no need to look beyond its index.
+            hi = hi.min(l.index() + 1).max(lo + 1);
+        }
         if let Some(cb) = ctl.progress {
             cb(Progress {
-                index: n,
+                index: lo,
                 lattices_tested: tested,
             });
         }
+        let cancelled_out = |best: Option<Lattice>, lo: u64, tested: u64| match best {
+            Some(l) => finish(l, false, lo, tested),
+            None => SearchOutcome::NotFound {
+                excluded_below: lo,
+                lattices_tested: tested,
+                cancelled: true,
+            },
+        };
         if ctl.cancel.load(std::sync::atomic::Ordering::Relaxed) {
-            let out = match best {
-                Some(l) => finish(l, false, n, tested),
-                None => SearchOutcome::NotFound {
-                    excluded_below: n,
-                    lattices_tested: tested,
-                    cancelled: true,
-                },
-            };
-            return Ok((out, vec![]));
+            return Ok((cancelled_out(best, lo, tested), vec![]));
         }
         if let Some(l) = nested
             .as_ref()
-            .filter(|l| limit == 1 && nested_exact && l.index() == n)
+            .filter(|l| limit == 1 && nested_exact && l.index() == lo)
         {
-            return Ok((finish(l.clone(), true, n, tested), vec![l.clone()]));
+            return Ok((finish(l.clone(), true, lo, tested), vec![l.clone()]));
         }
-        let (found, t, cancelled) = scan(&engine, n, limit, ctl.cancel);
+        let (found, t, cancelled) = scan(&engine, lo, hi, limit, ctl.cancel);
         tested += t;
         if cancelled {
-            let out = match best {
-                Some(l) => finish(l, false, n, tested),
-                None => SearchOutcome::NotFound {
-                    excluded_below: n,
-                    lattices_tested: tested,
-                    cancelled: true,
-                },
-            };
-            return Ok((out, vec![]));
+            return Ok((cancelled_out(best, lo, tested), vec![]));
         }
-        if !found.is_empty() {
+        if let Some(first) = found.first() {
+            let n = first.index();
             let pick = match nested.as_ref().filter(|l| nested_exact && l.index() == n) {
                 Some(l) => l.clone(),
                 None => found
                     .iter()
                     .find(|l| l.as_nested().is_some())
-                    .unwrap_or(&found[0])
+                    .unwrap_or(first)
                     .clone(),
             };
             return Ok((finish(pick, true, n, tested), found));
         }
+        lo = hi;
     }
     Ok((
         SearchOutcome::NotFound {
-            excluded_below: problem.max_steps + 1,
+            excluded_below: cap,
             lattices_tested: tested,
             cancelled: false,
         },
@@ -221,30 +224,39 @@ fn run(
     ))
 }
 
-/// Scans all lattices of index `n`: returns up to `limit` valid ones in engine order,
-/// the candidate count, and whether the scan was cancelled.
-fn scan(engine: &Engine, n: u64, limit: usize, cancel: &AtomicBool) -> (Vec<Lattice>, u64, bool) {
+/// Scans all lattices with index in `[lo, hi)`: returns up to `limit` valid ones of
+/// the smallest index there, in engine order, the candidate count, and whether the
+/// scan was cancelled.
+fn scan(
+    engine: &Engine,
+    lo: u64,
+    hi: u64,
+    limit: usize,
+    cancel: &AtomicBool,
+) -> (Vec<Lattice>, u64, bool) {
+    let best = AtomicU64::new(u64::MAX);
     let split = if engine.n >= 3 { Some(2) } else { None };
-    let mut top = Sink::new(limit, cancel);
+    let mut top = Sink::new(limit, &best, cancel);
     top.split = split;
-    engine.dfs(&engine.root(), n, &mut top);
-    let mut found = top.found;
+    engine.dfs(&engine.root(), lo, hi, &mut top);
+    let mut found = std::mem::take(&mut top.found);
     let mut tested = top.tested;
-    if split.is_some() {
-        let parts: Vec<(Vec<Lattice>, u64)> = top
-            .tasks
-            .par_iter()
-            .map(|node| {
-                let mut s = Sink::new(limit, cancel);
-                engine.dfs(node, n, &mut s);
-                (s.found, s.tested)
-            })
-            .collect();
-        for (f, t) in parts {
-            tested += t;
-            found.extend(f);
-        }
+    let tasks = std::mem::take(&mut top.tasks);
+    let parts: Vec<(Vec<Lattice>, u64)> = tasks
+        .par_iter()
+        .map(|node| {
+            let mut s = Sink::new(limit, &best, cancel);
+            engine.dfs(node, lo, hi, &mut s);
+            (s.found, s.tested)
+        })
+        .collect();
+    for (f, t) in parts {
+        tested += t;
+        found.extend(f);
     }
+    let min = found.iter().map(Lattice::index).min();
+    found.retain(|l| Some(l.index()) == min);
+    found.sort_by_key(order_key);
     found.truncate(limit);
     let cancelled = cancel.load(std::sync::atomic::Ordering::Relaxed);
     (found, tested, cancelled)
