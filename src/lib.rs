@@ -31,6 +31,7 @@
 
 pub mod agnostic;
 pub mod cycle;
+pub mod design;
 pub mod error;
 pub mod exact;
 pub mod experiment_file;

@@ -1,0 +1,399 @@
+//! The pruned exhaustive scan over lattices with index in a window `[lo, hi)`. Rows of the lower-
+//! triangular HNF are fixed one at a time; after row k the prefix lattice
+//! `L_k = L ∩ (Z^(k+1) x 0)` is final, so every forbidden difference whose last
+//! non-zero entry is k is decided there and prunes the whole subtree.
+//!
+//! The candidate row k = `(h', D)` is tested in the quotient group
+//! `G = Z^k / L_{k-1}` (kept in Smith coordinates): a vector `(d', d_k)` lies in
+//! `L_k` iff `D | d_k` and `(d_k / D) [h'] = [d']` in G. The classes `[h']` are walked
+//! over the HNF box of reduced off-diagonal entries, so each lattice is met once.
+
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+
+use super::group::{extend, gcd, Presented};
+use super::lattice::Lattice;
+use super::problem::top;
+
+/// Constraints sorted by the level at which they become decidable.
+pub(crate) struct Engine {
+    pub n: usize,
+    /// `forb[k]`: forbidden differences whose last non-zero entry is `k` (> 0).
+    pub forb: Vec<Vec<Vec<i64>>>,
+    /// `req[k]`: required differences whose last non-zero entry is `k`.
+    pub req: Vec<Vec<Vec<i64>>>,
+    /// `groups[k]`: `(d_k, start, end)` ranges of `forb[k]` sharing the entry `d_k`.
+    pub groups: Vec<Vec<(i64, usize, usize)>>,
+    pub grid: Vec<u32>,
+    pub cap: Option<u32>,
+}
+
+/// A partial HNF: rows `0..k` fixed.
+#[derive(Clone)]
+pub(crate) struct Node {
+    rows: Vec<Vec<i64>>,
+    grp: Presented,
+    index: u64,
+}
+
+/// Collects the valid lattices of the smallest index met so far.
+pub(crate) struct Sink<'a> {
+    /// Keep at most this many lattices (smallest engine-order keys).
+    pub limit: usize,
+    /// Valid lattices, all of index `best`.
+    pub found: Vec<Lattice>,
+    /// Shared upper bound on the index worth looking at (inclusive).
+    pub best: &'a AtomicU64,
+    /// Candidate rows examined.
+    pub tested: u64,
+    pub cancel: &'a AtomicBool,
+    /// If set, nodes of this depth are collected instead of expanded.
+    pub split: Option<usize>,
+    pub tasks: Vec<Node>,
+}
+
+/// Engine order: diagonal tuple, then off-diagonal entries row by row.
+pub(crate) fn order_key(l: &Lattice) -> (Vec<i64>, Vec<i64>) {
+    let rows = l.rows();
+    let diag = (0..rows.len()).map(|i| rows[i][i]).collect();
+    let off = (0..rows.len())
+        .flat_map(|i| rows[i][..i].to_vec())
+        .collect();
+    (diag, off)
+}
+
+impl<'a> Sink<'a> {
+    pub fn new(limit: usize, best: &'a AtomicU64, cancel: &'a AtomicBool) -> Sink<'a> {
+        Sink {
+            limit,
+            found: Vec::new(),
+            best,
+            tested: 0,
+            cancel,
+            split: None,
+            tasks: Vec::new(),
+        }
+    }
+    fn cancelled(&self) -> bool {
+        self.cancel.load(Ordering::Relaxed)
+    }
+    fn push(&mut self, l: Lattice) {
+        let idx = l.index();
+        let cur = self.found.first().map(Lattice::index);
+        if cur.is_some_and(|c| idx > c) {
+            return;
+        }
+        if cur.is_some_and(|c| idx < c) {
+            self.found.clear();
+        }
+        self.best.fetch_min(idx, Ordering::Relaxed);
+        self.found.push(l);
+        if self.found.len() > 4 * self.limit + 16 {
+            self.found.sort_by_key(order_key);
+            self.found.truncate(self.limit);
+        }
+    }
+}
+
+impl Engine {
+    pub fn new(
+        n: usize,
+        forb: &[Vec<i64>],
+        req: &[Vec<i64>],
+        grid: &[u32],
+        cap: Option<u32>,
+    ) -> Engine {
+        let mut f = vec![Vec::new(); n];
+        let mut r = vec![Vec::new(); n];
+        for d in forb {
+            if let Some(k) = top(d) {
+                f[k].push(d.clone());
+            }
+        }
+        for q in req {
+            if let Some(k) = top(q) {
+                r[k].push(q.clone());
+            }
+        }
+        let mut groups = Vec::with_capacity(n);
+        for (k, fk) in f.iter_mut().enumerate() {
+            fk.sort_by_key(|d| d[k]);
+            let mut gk: Vec<(i64, usize, usize)> = Vec::new();
+            for (i, d) in fk.iter().enumerate() {
+                match gk.last_mut() {
+                    Some(last) if last.0 == d[k] => last.2 = i + 1,
+                    _ => gk.push((d[k], i, i + 1)),
+                }
+            }
+            groups.push(gk);
+        }
+        Engine {
+            n,
+            forb: f,
+            groups,
+            req: r,
+            grid: grid.to_vec(),
+            cap,
+        }
+    }
+
+    /// The empty prefix.
+    pub fn root(&self) -> Node {
+        Node {
+            rows: Vec::new(),
+            grp: Presented {
+                inv: vec![],
+                img: vec![],
+            },
+            index: 1,
+        }
+    }
+
+    /// Expands `node` towards lattices with index in `[lo, hi)` (and not above the
+    /// shared bound in the sink).
+    pub fn dfs(&self, node: &Node, lo: u64, hi: u64, sink: &mut Sink) {
+        if sink.cancelled() {
+            return;
+        }
+        let k = node.rows.len();
+        if sink.split == Some(k) {
+            sink.tasks.push(node.clone());
+            return;
+        }
+        let last = k + 1 == self.n;
+        let g = &node.grp;
+        let r = g.inv.len();
+        let forb = &self.forb[k];
+        // Images of the first k coordinates of the constraints (one reduction each;
+        // entries are at most 1e6 and images below N, so the i64 sums cannot overflow).
+        let image = |d: &[i64], y: &mut [i64]| {
+            for i in 0..r {
+                let mut acc: i64 = 0;
+                for (j, &dj) in d[..k].iter().enumerate() {
+                    acc += dj * g.img[j][i];
+                }
+                y[i] = acc.rem_euclid(g.inv[i]);
+            }
+        };
+        let mut fimg: Vec<i64> = vec![0; forb.len() * r];
+        let mut have_group = vec![false; self.groups[k].len()];
+        let strides: Vec<usize> = g
+            .inv
+            .iter()
+            .scan(1usize, |acc, &s| {
+                let v = *acc;
+                *acc *= s as usize;
+                Some(v)
+            })
+            .collect();
+        let mut killed: Vec<bool> = vec![false; node.index as usize];
+        let mut any_killed = false;
+        let qy: Vec<(i64, Vec<i64>)> = self.req[k]
+            .iter()
+            .map(|d| {
+                let mut y = vec![0; r];
+                image(d, &mut y);
+                (d[k], y)
+            })
+            .collect();
+        let later_grid: Option<u64> = if self.grid[k + 1..].iter().all(|&m| m > 0) {
+            Some(self.grid[k + 1..].iter().map(|&m| m as u64).product())
+        } else {
+            None
+        };
+        let box_dims: Vec<i64> = (0..k).map(|j| node.rows[j][j]).collect();
+        let top_index = |sink: &Sink| (hi - 1).min(sink.best.load(Ordering::Relaxed));
+        let d_min = if last {
+            lo.div_ceil(node.index).max(1)
+        } else {
+            1
+        };
+        let mut dd = d_min;
+        while node.index * dd <= top_index(sink) {
+            let d = dd as i64;
+            dd += 1;
+            let m = self.grid[k] as u64;
+            if m > 0 && m % d as u64 != 0 {
+                continue;
+            }
+            // Later diagonals divide their grids: the window must stay reachable.
+            if later_grid.is_some_and(|lg| (node.index * d as u64).saturating_mul(lg) < lo) {
+                continue;
+            }
+            if self.cap.is_some_and(|c| d as u64 > c as u64) {
+                continue;
+            }
+            if qy.iter().any(|(dk, _)| dk % d != 0) {
+                continue;
+            }
+            let reqs: Vec<(i64, &[i64])> =
+                qy.iter().map(|(dk, y)| (dk / d, y.as_slice())).collect();
+            // Mark every class x with c x = y for a forbidden (c = d_k / D, y = [d']).
+            if any_killed {
+                killed.iter_mut().for_each(|v| *v = false);
+                any_killed = false;
+            }
+            for (gi, &(val, a, b)) in self.groups[k].iter().enumerate() {
+                if val % d != 0 {
+                    continue;
+                }
+                if !have_group[gi] {
+                    for i in a..b {
+                        image(&forb[i], &mut fimg[i * r..(i + 1) * r]);
+                    }
+                    have_group[gi] = true;
+                }
+                any_killed = true;
+                for i in a..b {
+                    mark_solutions(
+                        &g.inv,
+                        &strides,
+                        val / d,
+                        &fimg[i * r..(i + 1) * r],
+                        &mut killed,
+                    );
+                }
+            }
+            let mut h = vec![0i64; k];
+            let mut x = vec![0i64; r];
+            loop {
+                sink.tested += 1;
+                let idx: usize = x
+                    .iter()
+                    .zip(&strides)
+                    .map(|(&xi, &st)| xi as usize * st)
+                    .sum();
+                let ok = !killed[idx] && self.pre_accept(g, &x, d, &reqs);
+                if ok {
+                    let mut row = h.clone();
+                    row.push(d);
+                    row.resize(self.n, 0);
+                    let mut rows = node.rows.clone();
+                    rows.push(row);
+                    if last {
+                        if let Ok(l) = Lattice::from_hnf(rows) {
+                            sink.push(l);
+                        }
+                    } else {
+                        let grp = extend(g, &x, d);
+                        let child = Node {
+                            rows,
+                            grp,
+                            index: node.index * d as u64,
+                        };
+                        self.dfs(&child, lo, hi, sink);
+                    }
+                    if sink.cancelled() {
+                        return;
+                    }
+                }
+                // Odometer over the box, keeping x = sum h_j img_j.
+                let mut j = k;
+                let mut done = true;
+                while j > 0 {
+                    j -= 1;
+                    h[j] += 1;
+                    for i in 0..r {
+                        x[i] = (x[i] + g.img[j][i]) % g.inv[i];
+                    }
+                    if h[j] < box_dims[j] {
+                        done = false;
+                        break;
+                    }
+                    for i in 0..r {
+                        x[i] = (x[i] - (box_dims[j] % g.inv[i]) * g.img[j][i]).rem_euclid(g.inv[i]);
+                    }
+                    h[j] = 0;
+                }
+                if done {
+                    break;
+                }
+            }
+        }
+    }
+
+    /// Grid, phase-cap and required-vector conditions for candidate `(x, d)`.
+    fn pre_accept(&self, g: &Presented, x: &[i64], d: i64, reqs: &[(i64, &[i64])]) -> bool {
+        let hits = |c: i64, y: &[i64]| {
+            x.iter()
+                .zip(y)
+                .zip(&g.inv)
+                .all(|((&xi, &yi), &s)| (c.rem_euclid(s) * xi - yi) % s == 0)
+        };
+        let k = g.img.len();
+        let m = self.grid[k] as i64;
+        if m > 0 && !hits(m / d, &vec![0; x.len()]) {
+            return false;
+        }
+        if let Some(cap) = self.cap {
+            if d as u64 * g.element_order(x) > cap as u64 {
+                return false;
+            }
+        }
+        reqs.iter().all(|&(c, y)| hits(c, y))
+    }
+}
+
+/// Marks all `x` in `Z_{s_1} x ... x Z_{s_r}` with `c x = y` (componentwise).
+fn mark_solutions(inv: &[i64], strides: &[usize], c: i64, y: &[i64], killed: &mut [bool]) {
+    // Per component: solutions x0 + t * (s / g), t in 0..g, if g | y.
+    let r = inv.len();
+    if c == 1 {
+        let idx: usize = y
+            .iter()
+            .zip(strides)
+            .map(|(&yi, &st)| yi as usize * st)
+            .sum();
+        killed[idx] = true;
+        return;
+    }
+    let mut base = [0i64; 8];
+    let mut step = [0i64; 8];
+    let mut count = [0i64; 8];
+    for i in 0..r {
+        let s = inv[i];
+        let cm = c.rem_euclid(s);
+        let g = gcd(cm, s);
+        if y[i] % g != 0 {
+            return;
+        }
+        let m = s / g;
+        let inv_c = mod_inverse((cm / g).rem_euclid(m), m);
+        base[i] = ((y[i] / g) as i128 * inv_c as i128).rem_euclid(m as i128) as i64;
+        step[i] = m;
+        count[i] = g;
+    }
+    let mut t = [0i64; 8];
+    loop {
+        let idx: usize = (0..r)
+            .map(|i| (base[i] + t[i] * step[i]) as usize * strides[i])
+            .sum();
+        killed[idx] = true;
+        let mut i = 0;
+        loop {
+            if i == r {
+                return;
+            }
+            t[i] += 1;
+            if t[i] < count[i] {
+                break;
+            }
+            t[i] = 0;
+            i += 1;
+        }
+    }
+}
+
+/// Inverse of `a` modulo `m` (`gcd(a, m) = 1`; returns 0 for `m = 1`).
+fn mod_inverse(a: i64, m: i64) -> i64 {
+    if m == 1 {
+        return 0;
+    }
+    let (mut old_r, mut r) = (a, m);
+    let (mut old_s, mut s) = (1i64, 0i64);
+    while r != 0 {
+        let q = old_r / r;
+        (old_r, r) = (r, old_r - q * r);
+        (old_s, s) = (s, old_s - q * s);
+    }
+    old_s.rem_euclid(m)
+}

@@ -1,0 +1,352 @@
+//! The minimal-index search: up-front impossibility checks (identical signatures,
+//! aliasing on the grid), a quick upper bound (smallest nested cycle, a budgeted
+//! Korobov-type cogwheel scan), then the exhaustive scan N = 1, 2, ... with the
+//! pruned engine, run in parallel over top-level branches.
+//!
+//! Preference among lattices of the minimal index (deterministic): a nested cycle
+//! if one exists (the lexicographically smallest step-count tuple), else the first
+//! valid lattice in engine order (diagonal entries by ascending divisors, row by
+//! row; then reduced off-diagonal entries, first column slowest).
+
+use std::sync::atomic::{AtomicBool, AtomicU64};
+
+use num_rational::Ratio;
+use rayon::prelude::*;
+
+use super::engine::{order_key, Engine, Sink};
+use super::lattice::Lattice;
+use super::problem::{LatticeProblem, Reduced};
+use super::seed::{korobov_seed, nested_seed};
+use super::DesignError;
+
+/// Progress report: the index being scanned and candidate rows tested so far.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Progress {
+    /// Index N now being scanned (all smaller N are excluded).
+    pub index: u64,
+    /// Candidate HNF rows examined so far.
+    pub lattices_tested: u64,
+}
+
+/// Cancellation and progress hooks for a search.
+pub struct SearchControl<'a> {
+    /// Set to true (from any thread) to stop; checked at every search node.
+    pub cancel: &'a AtomicBool,
+    /// Called at the start of every index N.
+    pub progress: Option<&'a (dyn Fn(Progress) + Sync)>,
+}
+
+impl<'a> SearchControl<'a> {
+    /// A control with a cancel flag and no progress callback.
+    pub fn new(cancel: &'a AtomicBool) -> SearchControl<'a> {
+        SearchControl {
+            cancel,
+            progress: None,
+        }
+    }
+}
+
+/// Weights of one output: `w_m = exp(-2 pi i r_m) / N` with `r_m` in turns.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct OutputWeights {
+    /// Output name.
+    pub name: String,
+    /// Exponent `r_m = t . phi_m mod 1` per step (turns).
+    pub exponents: Vec<Ratio<i64>>,
+}
+
+/// A valid lattice design.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Design {
+    /// The lattice L.
+    pub lattice: Lattice,
+    /// Number of steps N = index of L.
+    pub steps: u64,
+    /// Step phases (turns, one row per step, one entry per cycled field).
+    pub phases: Vec<Vec<Ratio<i64>>>,
+    /// Per-output weight exponents.
+    pub weights: Vec<OutputWeights>,
+    /// True if every lattice of smaller index was shown invalid.
+    pub proven_minimal: bool,
+    /// Every lattice design with fewer steps than this is impossible.
+    pub excluded_below: u64,
+    /// Candidate HNF rows examined.
+    pub lattices_tested: u64,
+    /// `Some(c)`: the design is the nested cycle with `c_j` steps on field j.
+    pub nested: Option<Vec<u64>>,
+    /// `Some((N, nu))`: the design is the cogwheel cycle with winding numbers `nu`.
+    pub cogwheel: Option<(u64, Vec<i64>)>,
+    /// Smallest valid nested cycle found by the seeding step (for comparison).
+    pub nested_bound: Option<u64>,
+}
+
+/// Result of a search.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum SearchOutcome {
+    /// A design (check `proven_minimal`).
+    Found(Design),
+    /// No lattice design with at most `max_steps` steps exists (or, if `cancelled`,
+    /// none below `excluded_below` and none found yet).
+    NotFound {
+        /// All N below this are impossible.
+        excluded_below: u64,
+        /// Candidate HNF rows examined.
+        lattices_tested: u64,
+        /// True if the search was stopped before reaching `max_steps`.
+        cancelled: bool,
+    },
+    /// A rejected (or other output's kept) signature equals `t_o` modulo the grid:
+    /// no cycle on this grid separates them.
+    Aliased {
+        /// Output index.
+        output: usize,
+        /// The aliased signature.
+        rejected: Vec<i64>,
+        /// A finer grid (each entry a multiple of the old one) that lifts this alias.
+        finer_grid_hint: Vec<u32>,
+    },
+    /// A signature to cancel is identical to one to keep: no phase cycle separates them.
+    Inseparable {
+        /// Output index.
+        output: usize,
+        /// The offending signature.
+        rejected: Vec<i64>,
+    },
+}
+
+/// Finds the minimal-index valid lattice design and proves it minimal among
+/// lattice designs (see the module docs for the preference among equals).
+pub fn search(problem: &LatticeProblem, ctl: &SearchControl) -> Result<SearchOutcome, DesignError> {
+    run(problem, ctl, 1).map(|(o, _)| o)
+}
+
+/// Up to `limit` valid lattices of the minimal index, in engine order (empty if the
+/// search does not find one or is cancelled).
+pub fn all_minimal(
+    problem: &LatticeProblem,
+    limit: usize,
+    ctl: &SearchControl,
+) -> Result<Vec<Lattice>, DesignError> {
+    run(problem, ctl, limit.max(1)).map(|(_, v)| v)
+}
+
+fn run(
+    problem: &LatticeProblem,
+    ctl: &SearchControl,
+    limit: usize,
+) -> Result<(SearchOutcome, Vec<Lattice>), DesignError> {
+    problem.validate()?;
+    let red = problem.reduce();
+    if let Some(o) = impossible(problem, &red) {
+        return Ok((o, vec![]));
+    }
+    let engine = Engine::new(
+        problem.dims,
+        &red.forb,
+        &red.req,
+        &problem.grid,
+        problem.max_phases_per_field,
+    );
+    let seeded = nested_seed(&engine, problem.max_steps);
+    let nested_exact = seeded.as_ref().is_some_and(|s| s.1);
+    let nested = seeded.map(|s| s.0);
+    let nested_bound = nested.as_ref().map(Lattice::index);
+    let mut best = nested.clone();
+    if let Some(c) = korobov_seed(
+        &engine,
+        best.as_ref().map_or(problem.max_steps, |l| l.index() - 1),
+    ) {
+        best = Some(c);
+    }
+    let mut tested = 0u64;
+    let finish = |l: Lattice, proven: bool, below: u64, tested: u64| {
+        SearchOutcome::Found(design(problem, l, proven, below, tested, nested_bound))
+    };
+    // Windows [lo, hi) of doubling width; every lattice of index below `lo` is
+    // excluded once the previous windows finished without a valid lattice.
+    let cap = problem.max_steps + 1;
+    let mut lo = 1u64;
+    while lo < cap {
+        let mut hi = (lo * 2).min(cap);
+        if let Some(l) = nested.as_ref().filter(|_| limit == 1 && nested_exact) {
+            // The nested seed is valid: no need to look beyond its index.
+            hi = hi.min(l.index() + 1).max(lo + 1);
+        }
+        if let Some(cb) = ctl.progress {
+            cb(Progress {
+                index: lo,
+                lattices_tested: tested,
+            });
+        }
+        let cancelled_out = |best: Option<Lattice>, lo: u64, tested: u64| match best {
+            Some(l) => finish(l, false, lo, tested),
+            None => SearchOutcome::NotFound {
+                excluded_below: lo,
+                lattices_tested: tested,
+                cancelled: true,
+            },
+        };
+        if ctl.cancel.load(std::sync::atomic::Ordering::Relaxed) {
+            return Ok((cancelled_out(best, lo, tested), vec![]));
+        }
+        if let Some(l) = nested
+            .as_ref()
+            .filter(|l| limit == 1 && nested_exact && l.index() == lo)
+        {
+            return Ok((finish(l.clone(), true, lo, tested), vec![l.clone()]));
+        }
+        let (found, t, cancelled) = scan(&engine, lo, hi, limit, ctl.cancel);
+        tested += t;
+        if cancelled {
+            return Ok((cancelled_out(best, lo, tested), vec![]));
+        }
+        if let Some(first) = found.first() {
+            let n = first.index();
+            let pick = match nested.as_ref().filter(|l| nested_exact && l.index() == n) {
+                Some(l) => l.clone(),
+                None => found
+                    .iter()
+                    .find(|l| l.as_nested().is_some())
+                    .unwrap_or(first)
+                    .clone(),
+            };
+            return Ok((finish(pick, true, n, tested), found));
+        }
+        lo = hi;
+    }
+    Ok((
+        SearchOutcome::NotFound {
+            excluded_below: cap,
+            lattices_tested: tested,
+            cancelled: false,
+        },
+        vec![],
+    ))
+}
+
+/// Scans all lattices with index in `[lo, hi)`: returns up to `limit` valid ones of
+/// the smallest index there, in engine order, the candidate count, and whether the
+/// scan was cancelled.
+fn scan(
+    engine: &Engine,
+    lo: u64,
+    hi: u64,
+    limit: usize,
+    cancel: &AtomicBool,
+) -> (Vec<Lattice>, u64, bool) {
+    let best = AtomicU64::new(u64::MAX);
+    let split = if engine.n >= 3 { Some(2) } else { None };
+    let mut top = Sink::new(limit, &best, cancel);
+    top.split = split;
+    engine.dfs(&engine.root(), lo, hi, &mut top);
+    let mut found = std::mem::take(&mut top.found);
+    let mut tested = top.tested;
+    let tasks = std::mem::take(&mut top.tasks);
+    let parts: Vec<(Vec<Lattice>, u64)> = tasks
+        .par_iter()
+        .map(|node| {
+            let mut s = Sink::new(limit, &best, cancel);
+            engine.dfs(node, lo, hi, &mut s);
+            (s.found, s.tested)
+        })
+        .collect();
+    for (f, t) in parts {
+        tested += t;
+        found.extend(f);
+    }
+    let min = found.iter().map(Lattice::index).min();
+    found.retain(|l| Some(l.index()) == min);
+    found.sort_by_key(order_key);
+    found.truncate(limit);
+    let cancelled = cancel.load(std::sync::atomic::Ordering::Relaxed);
+    (found, tested, cancelled)
+}
+
+/// Up-front impossibility checks: identical signatures and grid aliasing.
+fn impossible(problem: &LatticeProblem, red: &Reduced) -> Option<SearchOutcome> {
+    for f in &red.forbidden {
+        if f.diff.iter().all(|&x| x == 0) {
+            return Some(SearchOutcome::Inseparable {
+                output: f.output,
+                rejected: f.other.clone(),
+            });
+        }
+    }
+    for f in &red.forbidden {
+        let aliased =
+            f.diff
+                .iter()
+                .zip(&problem.grid)
+                .all(|(&d, &m)| if m == 0 { d == 0 } else { d % m as i64 == 0 });
+        if aliased {
+            return Some(SearchOutcome::Aliased {
+                output: f.output,
+                rejected: f.other.clone(),
+                finer_grid_hint: finer_grid(&problem.grid, &f.diff),
+            });
+        }
+    }
+    None
+}
+
+/// Refines one field (the cheapest) so that `diff` is no longer a grid vector.
+fn finer_grid(grid: &[u32], diff: &[i64]) -> Vec<u32> {
+    let mut best: Option<(u32, usize)> = None;
+    for (j, (&m, &d)) in grid.iter().zip(diff).enumerate() {
+        if m == 0 || d == 0 {
+            continue;
+        }
+        let q = (d / m as i64).unsigned_abs();
+        let p = (2u32..).find(|&p| q % p as u64 != 0).unwrap_or(2);
+        let cand = m.saturating_mul(p);
+        if best.map_or(true, |(b, _)| cand < b) {
+            best = Some((cand, j));
+        }
+    }
+    let mut g = grid.to_vec();
+    if let Some((c, j)) = best {
+        g[j] = c;
+    }
+    g
+}
+
+fn design(
+    problem: &LatticeProblem,
+    lattice: Lattice,
+    proven: bool,
+    below: u64,
+    tested: u64,
+    nested_bound: Option<u64>,
+) -> Design {
+    let phases = lattice.dual_points();
+    let weights = problem
+        .outputs
+        .iter()
+        .map(|o| {
+            let t = &o.kept[0];
+            let exponents = phases
+                .iter()
+                .map(|p| {
+                    let r: Ratio<i64> = p.iter().zip(t).map(|(&x, &c)| x * c).sum();
+                    r - r.floor()
+                })
+                .collect();
+            OutputWeights {
+                name: o.name.clone(),
+                exponents,
+            }
+        })
+        .collect();
+    Design {
+        steps: lattice.index(),
+        nested: lattice.as_nested(),
+        cogwheel: lattice.as_cogwheel(),
+        lattice,
+        phases,
+        weights,
+        proven_minimal: proven,
+        excluded_below: below,
+        lattices_tested: tested,
+        nested_bound,
+    }
+}

@@ -1,0 +1,179 @@
+//! Quick valid designs used as upper bounds before the exhaustive scan: the smallest
+//! nested cycle (exact, by branch and bound, within a node budget) and a budgeted scan
+//! of Korobov-type cogwheels `nu = (1, a, a^2, ...) mod N`.
+
+use super::engine::Engine;
+use super::group::gcd;
+use super::lattice::Lattice;
+
+const NESTED_BUDGET: u64 = 20_000_000;
+const KOROBOV_BUDGET: u64 = 3_000_000;
+
+/// Smallest nested cycle with at most `max_steps` steps, as `(lattice, exact)`;
+/// `exact` is false if the node budget ran out (the lattice is then only valid).
+pub(crate) fn nested_seed(e: &Engine, max_steps: u64) -> Option<(Lattice, bool)> {
+    let n = e.n;
+    // c_j must divide R_j: the gcd of the required differences' entries and M_j.
+    let mut rj = vec![0i64; n];
+    for (j, r) in rj.iter_mut().enumerate() {
+        for q in e.req.iter().flatten() {
+            *r = gcd(*r, q[j]);
+        }
+        if e.grid[j] > 0 {
+            *r = gcd(*r, e.grid[j] as i64);
+        }
+    }
+    let mut st = Nested {
+        e,
+        rj,
+        best: max_steps.saturating_add(1),
+        best_c: None,
+        nodes: 0,
+    };
+    // Greedy bound first, then the exact branch and bound.
+    st.greedy();
+    st.dfs(&mut Vec::new(), 1);
+    let exact = st.nodes <= NESTED_BUDGET;
+    let c = st.best_c?;
+    let rows = (0..n)
+        .map(|i| {
+            (0..n)
+                .map(|j| if i == j { c[i] as i64 } else { 0 })
+                .collect()
+        })
+        .collect();
+    Lattice::from_hnf(rows).ok().map(|l| (l, exact))
+}
+
+struct Nested<'a> {
+    e: &'a Engine,
+    rj: Vec<i64>,
+    best: u64,
+    best_c: Option<Vec<u64>>,
+    nodes: u64,
+}
+
+impl Nested<'_> {
+    fn allowed(&self, k: usize, c: u64) -> bool {
+        let r = self.rj[k];
+        if r != 0 && r % c as i64 != 0 {
+            return false;
+        }
+        self.e.cap.map_or(true, |cap| c <= cap as u64)
+    }
+
+    /// True if no forbidden difference decided at level k lies in the prefix.
+    fn clean(&self, k: usize, c: &[u64]) -> bool {
+        !self.e.forb[k]
+            .iter()
+            .any(|d| d[..=k].iter().zip(c).all(|(&x, &ci)| x % ci as i64 == 0))
+    }
+
+    fn greedy(&mut self) {
+        let mut c: Vec<u64> = Vec::new();
+        let mut p = 1u64;
+        for k in 0..self.e.n {
+            let lim = self.best.saturating_sub(1) / p;
+            let mut ok = None;
+            for v in 1..=lim.min(1_000_000) {
+                if !self.allowed(k, v) {
+                    continue;
+                }
+                c.push(v);
+                if self.clean(k, &c) {
+                    ok = Some(v);
+                    break;
+                }
+                c.pop();
+            }
+            match ok {
+                Some(v) => p *= v,
+                None => return,
+            }
+        }
+        if p < self.best {
+            self.best = p;
+            self.best_c = Some(c);
+        }
+    }
+
+    fn dfs(&mut self, c: &mut Vec<u64>, p: u64) {
+        let k = c.len();
+        if k == self.e.n {
+            if p < self.best {
+                self.best = p;
+                self.best_c = Some(c.clone());
+            }
+            return;
+        }
+        let lim = (self.best - 1) / p;
+        for v in 1..=lim {
+            self.nodes += 1;
+            if self.nodes > NESTED_BUDGET || p * v >= self.best {
+                return;
+            }
+            if !self.allowed(k, v) {
+                continue;
+            }
+            c.push(v);
+            if self.clean(k, c) {
+                self.dfs(c, p * v);
+            }
+            c.pop();
+        }
+    }
+}
+
+/// First Korobov-type cogwheel `nu = (1, a, a^2, ...) mod N`, `N < bound`, passing
+/// all constraints, within a fixed budget of dot products.
+pub(crate) fn korobov_seed(e: &Engine, bound: u64) -> Option<Lattice> {
+    let n = e.n;
+    let forb: Vec<&Vec<i64>> = e.forb.iter().flatten().collect();
+    let req: Vec<&Vec<i64>> = e.req.iter().flatten().collect();
+    let mut work = 0u64;
+    for nn in 2..bound.min(1 << 31) {
+        let m = nn as i64;
+        for a in 1..m {
+            let mut nu = vec![1i64; n];
+            for j in 1..n {
+                nu[j] = (nu[j - 1] as i128 * a as i128 % m as i128) as i64;
+            }
+            let dot = |d: &[i64]| {
+                d.iter()
+                    .zip(&nu)
+                    .map(|(&x, &v)| x as i128 * v as i128)
+                    .sum::<i128>()
+                    % m as i128
+                    == 0
+            };
+            let grid_ok = e
+                .grid
+                .iter()
+                .zip(&nu)
+                .all(|(&g, &v)| g == 0 || (g as i64 * v) % m == 0);
+            let cap_ok = e.cap.map_or(true, |c| {
+                nu.iter().all(|&v| (m / gcd(v, m)) as u64 <= c as u64)
+            });
+            if !grid_ok || !cap_ok {
+                continue;
+            }
+            let mut ok = req.iter().all(|q| dot(q));
+            if ok {
+                for d in &forb {
+                    work += 1;
+                    if dot(d) {
+                        ok = false;
+                        break;
+                    }
+                }
+            }
+            if ok {
+                return Lattice::from_cogwheel(nn, &nu).ok();
+            }
+            if work > KOROBOV_BUDGET {
+                return None;
+            }
+        }
+    }
+    None
+}
