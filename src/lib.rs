@@ -39,6 +39,7 @@ pub mod export;
 pub mod limits;
 pub mod model;
 pub mod pathways;
+pub mod plan;
 pub mod render;
 pub mod safe_write;
 pub mod signature;

@@ -2,6 +2,8 @@
 //! phase per field, one weight vector per output, and metadata. File formats live in the
 //! submodules; this module holds only the data and its exact/float views.
 
+pub mod toml_format;
+
 use crate::exact::{Cyclo, Turns};
 use crate::signature::Signature;
 use num_complex::Complex64;

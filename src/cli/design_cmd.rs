@@ -1,0 +1,169 @@
+//! `pathsieve design`: the smallest phase cycle for an experiment, with its proof of
+//! minimality, a step table, a summary paragraph, JSON, and the cycle file the checker reads.
+
+use super::output::{print, print_json, table};
+use anyhow::bail;
+use clap::Args;
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use pathsieve::cycle::{Cycle, Phase};
+use pathsieve::design::{Progress, SearchControl};
+use pathsieve::experiment_file::read_experiment;
+use pathsieve::plan::{design, DesignReport, DesignRequest, RejectionSource};
+use serde::Serialize;
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::{Duration, Instant};
+
+static CANCEL: AtomicBool = AtomicBool::new(false);
+
+/// Arguments of `pathsieve design`.
+#[derive(Args, Debug)]
+pub struct DesignArgs {
+    /// Experiment file with the wanted signals as `[[signal]]` tables.
+    file: PathBuf,
+    /// Cancel every other term through this order (default: the experiment's order).
+    #[arg(long, value_name = "K")]
+    order: Option<u32>,
+    /// Cancel the enumerated pathways of the level scheme instead of the agnostic set.
+    #[arg(long)]
+    from_pathways: bool,
+    /// Ignore the beam geometry (cancel terms even when they are not phase matched).
+    #[arg(long)]
+    no_geometry: bool,
+    /// Phase grid in steps per turn: one value for all fields or one per field (`8` or
+    /// `1,8,8,8`); 0 = any rational phase (default).
+    #[arg(long, value_name = "M[,M...]", value_delimiter = ',')]
+    grid: Option<Vec<u32>>,
+    /// Largest number of steps to consider.
+    #[arg(long, default_value_t = 4096)]
+    max_steps: u64,
+    /// Largest number of distinct phases any one field may take.
+    #[arg(long, value_name = "N")]
+    max_phases: Option<u32>,
+    /// Write the cycle file (TOML, read by `pathsieve check`) here.
+    #[arg(long, value_name = "CYCLE.toml")]
+    out: Option<PathBuf>,
+    /// Overwrite an existing output file.
+    #[arg(long)]
+    force: bool,
+    /// Machine-readable JSON on stdout.
+    #[arg(long)]
+    json: bool,
+}
+
+#[derive(Serialize)]
+struct JsonOut<'a> {
+    #[serde(flatten)]
+    report: &'a DesignReport,
+    cycle: Option<&'a Cycle>,
+}
+
+/// Run the subcommand.
+pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
+    let exp = read_experiment(&a.file)?;
+    if a.max_steps == 0 {
+        bail!("--max-steps must be at least 1");
+    }
+    if let Some(o) = &a.out {
+        if o.exists() && !a.force {
+            bail!("{} exists; use --force to overwrite", o.display());
+        }
+    }
+    let req = DesignRequest {
+        order: a.order,
+        rejection: if a.from_pathways {
+            RejectionSource::Pathways
+        } else {
+            RejectionSource::Agnostic
+        },
+        geometry: !a.no_geometry,
+        grid: a.grid.clone(),
+        max_steps: a.max_steps,
+        max_phases_per_field: a.max_phases,
+        ..DesignRequest::default()
+    };
+    let _ = ctrlc::set_handler(|| CANCEL.store(true, Ordering::SeqCst));
+    let bar = ProgressBar::with_draw_target(None, ProgressDrawTarget::hidden());
+    bar.set_style(
+        ProgressStyle::with_template("{spinner} {elapsed} {msg}")
+            .unwrap_or_else(|_| ProgressStyle::default_spinner()),
+    );
+    let started = Instant::now();
+    let shown = AtomicBool::new(false);
+    let progress = |p: Progress| {
+        if !a.json
+            && started.elapsed() > Duration::from_secs(1)
+            && !shown.swap(true, Ordering::SeqCst)
+        {
+            bar.set_draw_target(ProgressDrawTarget::stderr());
+            bar.enable_steady_tick(Duration::from_millis(120));
+        }
+        bar.set_message(format!(
+            "scanning {} steps ({} candidates tested; Ctrl-C returns the best so far)",
+            p.index, p.lattices_tested
+        ));
+    };
+    let ctl = SearchControl {
+        cancel: &CANCEL,
+        progress: Some(&progress),
+    };
+    let report = design(&exp, &req, &ctl)?;
+    bar.finish_and_clear();
+    let code = if report.steps.is_some() { 0 } else { 1 };
+    if let (Some(path), Some(cycle)) = (&a.out, &report.cycle) {
+        let text = pathsieve::cycle::toml_format::write_cycle_toml(cycle);
+        pathsieve::safe_write::write_atomic(path, text.as_bytes(), a.force)?;
+        if !a.json {
+            eprintln!("wrote the cycle to {}", path.display());
+        }
+    }
+    if a.json {
+        print_json(&JsonOut {
+            report: &report,
+            cycle: report.cycle.as_ref(),
+        })?;
+        return Ok(code);
+    }
+    let mut out = format!("{}\n\n", report.experiment);
+    if let Some(cycle) = &report.cycle {
+        out.push_str(&steps_table(cycle));
+        out.push('\n');
+        out.push_str(&format!(
+            "weights: w_m = exp(-2 pi i t . phi_m) / {} per output (exact); phases in turns\n",
+            cycle.len()
+        ));
+        out.push_str(&format!(
+            "choice: {}\nstep order: {}\n\n",
+            report.choice_rule, report.step_order
+        ));
+    }
+    out.push_str(&report.summary);
+    out.push('\n');
+    for i in &report.impossible {
+        out.push_str(&format!("  - {}\n", i.describe()));
+    }
+    print(&out)?;
+    Ok(code)
+}
+
+/// The step table: one row per step, phases as exact fractions of a turn, weights per output.
+fn steps_table(c: &Cycle) -> String {
+    let mut header: Vec<String> = vec!["step".into()];
+    header.extend(c.fields.iter().map(|f| format!("{f} (turn)")));
+    header.extend(c.outputs.iter().map(|o| format!("w {}", o.name)));
+    let h: Vec<&str> = header.iter().map(String::as_str).collect();
+    let mut t = table(&h);
+    for (m, row) in c.steps.iter().enumerate() {
+        let mut cells = vec![(m + 1).to_string()];
+        cells.extend(row.iter().map(|p| match p {
+            Phase::Exact(r) => r.to_string(),
+            Phase::Approx(x) => format!("{x:.6}"),
+        }));
+        cells.extend(c.outputs.iter().map(|o| {
+            let z = o.weights[m].to_complex() * c.len() as f64;
+            format!("({:+.3}{:+.3}i)/{}", z.re, z.im, c.len())
+        }));
+        t.add_row(cells);
+    }
+    format!("{t}\n")
+}

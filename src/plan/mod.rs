@@ -1,0 +1,147 @@
+//! The designer's front end: from an experiment and a request to a finished, minimal phase
+//! cycle with its report. It prepares the problem ([`prepare`]), runs the lattice search
+//! ([`crate::design`]), chooses among equal-length designs and orders the steps ([`choose`]),
+//! compares with the nested and cogwheel cycles ([`compare`]) and builds the cycle ([`to_cycle`]).
+
+pub mod choose;
+pub mod compare;
+mod prepare;
+mod report;
+pub mod to_cycle;
+
+pub use prepare::{prepare, restrict, Prepared};
+pub use report::{design, DesignKind, DesignReport};
+
+use crate::error::ModelError;
+use crate::model::PathwayClass;
+use crate::signature::Signature;
+use serde::Serialize;
+use thiserror::Error;
+
+/// Where the terms to cancel come from.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum RejectionSource {
+    /// The agnostic set through the order (no level scheme needed; the safe default).
+    Agnostic,
+    /// The signatures of every enumerated pathway through the order (tighter).
+    Pathways,
+}
+
+/// What the user asks the designer for.
+#[derive(Clone, Debug)]
+pub struct DesignRequest {
+    /// Cancel everything through this order (default: the experiment's).
+    pub order: Option<u32>,
+    /// Agnostic or enumerated rejection set.
+    pub rejection: RejectionSource,
+    /// Apply the beam geometry (drop coherent terms that are not phase matched).
+    pub geometry: bool,
+    /// Phase grid: one value for all fields, or one per experiment field (0 = any phase).
+    pub grid: Option<Vec<u32>>,
+    /// Cap on the number of steps.
+    pub max_steps: u64,
+    /// Cap on distinct phases per field.
+    pub max_phases_per_field: Option<u32>,
+    /// Time budget for the search beyond lattice designs (0 = skip it).
+    pub beyond_budget: std::time::Duration,
+    /// Largest step count the beyond-lattice search tries.
+    pub beyond_max_steps: usize,
+}
+
+impl Default for DesignRequest {
+    fn default() -> Self {
+        DesignRequest {
+            order: None,
+            rejection: RejectionSource::Agnostic,
+            geometry: true,
+            grid: None,
+            max_steps: 4096,
+            max_phases_per_field: None,
+            beyond_budget: std::time::Duration::from_secs(2),
+            beyond_max_steps: 4,
+        }
+    }
+}
+
+/// A request no phase cycle can meet, with the reason in words.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+#[serde(rename_all = "kebab-case", tag = "kind")]
+pub enum Impossibility {
+    /// Pathways of an unwanted class share a kept signature.
+    Contaminated {
+        /// Output name.
+        output: String,
+        /// The kept signature.
+        kept: Signature,
+        /// The unwanted class.
+        class: PathwayClass,
+        /// True when they arrive as complex conjugates.
+        via_conjugate: bool,
+        /// Why, and what would separate them.
+        explanation: String,
+    },
+    /// A rejected term differs from a kept one only on fixed-phase fields.
+    FixedFields {
+        /// Output name.
+        output: String,
+        /// The kept signature.
+        kept: Signature,
+        /// The rejected signature.
+        rejected: Signature,
+        /// The fixed fields; cycling one of them would separate the terms.
+        fields: Vec<String>,
+    },
+    /// A rejected term equals a kept one modulo the phase grid.
+    Aliased {
+        /// Output name.
+        output: String,
+        /// The rejected signature over the cycled fields.
+        rejected: Vec<i64>,
+        /// A finer grid that lifts the alias.
+        finer_grid: Vec<u32>,
+    },
+}
+
+impl Impossibility {
+    /// One sentence for people.
+    pub fn describe(&self) -> String {
+        match self {
+            Impossibility::Contaminated { output, kept, explanation, .. } => {
+                format!("output `{output}` keeps {kept}, but {explanation}")
+            }
+            Impossibility::FixedFields { output, kept, rejected, fields } => format!(
+                "output `{output}`: {rejected} differs from the kept {kept} only on the fixed field(s) {}; no cycle with those phases fixed separates them — make one of them cycled",
+                fields.join(", ")
+            ),
+            Impossibility::Aliased { output, rejected, finer_grid } => format!(
+                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals the kept one modulo the phase grid; use a finer grid, e.g. {finer_grid:?} steps per turn"
+            ),
+        }
+    }
+}
+
+/// Errors of the designer front end.
+#[derive(Debug, Error)]
+pub enum PlanError {
+    /// The experiment has no `[[signal]]`.
+    #[error("the experiment lists no wanted signal: add a [[signal]] table with `classes` or `signatures`")]
+    NoSignals,
+    /// Every field is fixed.
+    #[error(
+        "no field has a cycled phase: set `phase = \"cycled\"` on the pulses the shaper controls"
+    )]
+    NothingCycled,
+    /// Bad grid request.
+    #[error("{0}")]
+    BadGrid(String),
+    /// From the model.
+    #[error(transparent)]
+    Model(#[from] ModelError),
+    /// From the lattice search.
+    #[error(transparent)]
+    Design(#[from] crate::design::DesignError),
+    /// From exact arithmetic.
+    #[error(transparent)]
+    Exact(#[from] crate::exact::ExactError),
+}

@@ -1,0 +1,377 @@
+//! The design run and its report: the minimal lattice design (proven by the search), the
+//! choice among equal-length designs, the step order, the yardsticks (nested, cogwheel), the
+//! first leak order and a one-paragraph summary.
+
+use super::choose::{order_for_drift, pick, score};
+use super::compare::{first_leak_order, min_cogwheel, CogwheelScan};
+use super::to_cycle::lattice_cycle;
+use super::{prepare, DesignRequest, Impossibility, PlanError, RejectionSource};
+use crate::cycle::{Cycle, CycleMeta};
+use crate::design::{all_minimal, search, Lattice, SearchControl, SearchOutcome};
+use crate::model::Experiment;
+use crate::signature::Signature;
+use serde::Serialize;
+use std::time::Instant;
+
+/// What kind of lattice design the result is.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+#[serde(rename_all = "kebab-case", tag = "kind")]
+pub enum DesignKind {
+    /// A nested cycle: each cycled field stepped independently.
+    Nested {
+        /// Steps per cycled field.
+        steps_per_field: Vec<u64>,
+    },
+    /// A cogwheel cycle `phi_j = nu_j m / N`.
+    Cogwheel {
+        /// N.
+        n: u64,
+        /// Winding numbers, one per cycled field.
+        winding: Vec<i64>,
+    },
+    /// A general lattice design, given by its Hermite-normal-form basis.
+    Lattice {
+        /// Basis rows.
+        basis: Vec<Vec<i64>>,
+    },
+}
+
+/// The result of a design run.
+#[derive(Clone, Debug, Serialize)]
+pub struct DesignReport {
+    /// Experiment title.
+    pub experiment: String,
+    /// All field names.
+    pub fields: Vec<String>,
+    /// Fields the design steps.
+    pub cycled_fields: Vec<String>,
+    /// Fields held at phase 0 (fixed in the experiment or by the global-phase freedom).
+    pub fixed_fields: Vec<String>,
+    /// The field fixed by the global-phase freedom, if one was.
+    pub global_phase_field: Option<String>,
+    /// Order through which everything else is cancelled.
+    pub order: u32,
+    /// Agnostic or enumerated rejection set.
+    pub rejection: RejectionSource,
+    /// Number of rejected terms (over all fields).
+    pub rejected_terms: usize,
+    /// Phase grid per cycled field (0 = any).
+    pub grid: Vec<u32>,
+    /// Outputs with their reference signatures.
+    pub outputs: Vec<(String, Signature)>,
+    /// Steps of the design, if one was found.
+    pub steps: Option<u64>,
+    /// Nested, cogwheel or general lattice.
+    pub kind: Option<DesignKind>,
+    /// True when every lattice design with fewer steps was shown invalid.
+    pub proven_minimal: bool,
+    /// Every lattice design with fewer steps than this is impossible.
+    pub excluded_below: u64,
+    /// Candidate lattice rows examined by the search.
+    pub lattices_tested: u64,
+    /// The smallest nested cycle (what a lab would use by default).
+    pub nested_steps: Option<u64>,
+    /// The smallest cogwheel cycle.
+    pub cogwheel: Option<CogwheelScan>,
+    /// Which rule picked this design among equal-length ones.
+    pub choice_rule: String,
+    /// How the steps were ordered.
+    pub step_order: String,
+    /// Largest drift first moment on the backgrounds, natural order, per unit drift per step.
+    pub drift_moment_natural: f64,
+    /// The same after reordering.
+    pub drift_moment_ordered: f64,
+    /// First order above the requested one at which the design leaks (agnostic set).
+    pub first_leak_order: Option<u32>,
+    /// Orders searched for the first leak.
+    pub first_leak_searched_to: u32,
+    /// Noise efficiency `|F(t)| / sqrt(N sum |w|^2)`: 1 for unit-modulus weights.
+    pub noise_efficiency: f64,
+    /// Why no design is possible, if so.
+    pub impossible: Vec<Impossibility>,
+    /// True when the search was interrupted (the design is then not proven minimal).
+    pub cancelled: bool,
+    /// Wall time of the run in seconds.
+    pub seconds: f64,
+    /// One paragraph for people.
+    pub summary: String,
+    /// The cycle table.
+    #[serde(skip)]
+    pub cycle: Option<Cycle>,
+}
+
+/// Run the designer.
+pub fn design(
+    exp: &Experiment,
+    req: &DesignRequest,
+    ctl: &SearchControl,
+) -> Result<DesignReport, PlanError> {
+    let start = Instant::now();
+    let prep = prepare(exp, req)?;
+    let order = req.order.unwrap_or(exp.order);
+    let name = |j: usize| exp.fields[j].name.clone();
+    let outputs: Vec<(String, Signature)> = prep
+        .outputs
+        .iter()
+        .map(|o| (o.name.clone(), o.kept[0].clone()))
+        .collect();
+    let mut report = DesignReport {
+        experiment: exp.title.clone(),
+        fields: exp.field_names(),
+        cycled_fields: prep.cycled.iter().map(|&j| name(j)).collect(),
+        fixed_fields: (0..exp.fields.len())
+            .filter(|j| !prep.cycled.contains(j))
+            .map(name)
+            .collect(),
+        global_phase_field: prep.fixed_by_global_phase.map(name),
+        order,
+        rejection: req.rejection,
+        rejected_terms: prep.rejected.len(),
+        grid: prep.problem.grid.clone(),
+        outputs: outputs.clone(),
+        steps: None,
+        kind: None,
+        proven_minimal: false,
+        excluded_below: 0,
+        lattices_tested: 0,
+        nested_steps: None,
+        cogwheel: None,
+        choice_rule: String::new(),
+        step_order: String::new(),
+        drift_moment_natural: 0.0,
+        drift_moment_ordered: 0.0,
+        first_leak_order: None,
+        first_leak_searched_to: 0,
+        noise_efficiency: 0.0,
+        impossible: prep.impossible.clone(),
+        cancelled: false,
+        seconds: 0.0,
+        summary: String::new(),
+        cycle: None,
+    };
+    if !report.impossible.is_empty() {
+        report.summary = format!(
+            "No phase cycle can do this: {}",
+            report
+                .impossible
+                .iter()
+                .map(|i| i.describe())
+                .collect::<Vec<_>>()
+                .join("; ")
+        );
+        report.seconds = start.elapsed().as_secs_f64();
+        return Ok(report);
+    }
+    let d = match search(&prep.problem, ctl)? {
+        SearchOutcome::Found(d) => d,
+        SearchOutcome::Aliased {
+            output,
+            rejected,
+            finer_grid_hint,
+        } => {
+            report.impossible.push(Impossibility::Aliased {
+                output: prep.problem.outputs[output].name.clone(),
+                rejected,
+                finer_grid: finer_grid_hint,
+            });
+            report.summary = format!("No cycle on this grid: {}", report.impossible[0].describe());
+            report.seconds = start.elapsed().as_secs_f64();
+            return Ok(report);
+        }
+        SearchOutcome::Inseparable { output, rejected } => {
+            report.impossible.push(Impossibility::Aliased {
+                output: prep.problem.outputs[output].name.clone(),
+                rejected,
+                finer_grid: vec![],
+            });
+            report.summary = "A term to cancel equals a term to keep on the cycled fields: no phase cycle separates them.".into();
+            report.seconds = start.elapsed().as_secs_f64();
+            return Ok(report);
+        }
+        SearchOutcome::NotFound {
+            excluded_below,
+            lattices_tested,
+            cancelled,
+        } => {
+            report.excluded_below = excluded_below;
+            report.lattices_tested = lattices_tested;
+            report.cancelled = cancelled;
+            report.summary = if cancelled {
+                format!("Interrupted before any design was found; no lattice design has fewer than {excluded_below} steps.")
+            } else {
+                format!("No lattice design with at most {} steps exists (every one was tested); raise --max-steps or relax the request.", req.max_steps)
+            };
+            report.seconds = start.elapsed().as_secs_f64();
+            return Ok(report);
+        }
+    };
+    report.steps = Some(d.steps);
+    report.proven_minimal = d.proven_minimal;
+    report.cancelled = !d.proven_minimal;
+    report.excluded_below = d.excluded_below;
+    report.lattices_tested = d.lattices_tested;
+    report.nested_steps = d.nested_bound;
+
+    // Choose among equal-length designs.
+    let t0 = &prep.problem.outputs[0].kept[0];
+    let candidates: Vec<Lattice> = if d.proven_minimal {
+        all_minimal(&prep.problem, 16, ctl).unwrap_or_default()
+    } else {
+        Vec::new()
+    };
+    let (lattice, rule) = if candidates.len() > 1 {
+        let scores: Vec<_> = candidates
+            .iter()
+            .map(|l| score(l, t0, &prep.problem.rejected))
+            .collect();
+        let (i, rule) = pick(&scores);
+        (candidates[i].clone(), rule)
+    } else {
+        (
+            d.lattice.clone(),
+            "the search found one design of this length (unit-modulus weights, noise efficiency 1)"
+                .to_string(),
+        )
+    };
+    report.choice_rule = rule;
+    report.kind = Some(if let Some(c) = lattice.as_nested() {
+        DesignKind::Nested { steps_per_field: c }
+    } else if let Some((n, nu)) = lattice.as_cogwheel() {
+        DesignKind::Cogwheel { n, winding: nu }
+    } else {
+        DesignKind::Lattice {
+            basis: lattice.rows().to_vec(),
+        }
+    });
+    let phases = lattice.dual_points();
+
+    // Step order against slow drift of the largest backgrounds (b = 0 and pair terms).
+    let backgrounds: Vec<Vec<i64>> = prep
+        .rejected
+        .iter()
+        .filter(|b| b.weight() <= 2)
+        .map(|b| super::restrict(b, &prep.cycled))
+        .collect();
+    let (step_order, before, after) = order_for_drift(&phases, t0, &backgrounds);
+    report.drift_moment_natural = before;
+    report.drift_moment_ordered = after;
+    report.step_order = if after + 1e-12 < before {
+        format!("reordered by pairwise-swap descent so that slow linear drift leaks the backgrounds (LO/population and pair terms) least: first moment {before:.3} -> {after:.3} (units of drift per step x background)")
+    } else {
+        format!("natural lattice order (first moment on the backgrounds {before:.3}; no swap lowered it)")
+    };
+
+    let meta = CycleMeta {
+        title: Some(format!("{} — designed cycle", exp.title)),
+        grid: Some(
+            exp.fields
+                .iter()
+                .enumerate()
+                .map(|(j, _)| {
+                    prep.cycled
+                        .iter()
+                        .position(|&c| c == j)
+                        .map(|k| {
+                            let g = prep.problem.grid[k];
+                            if g == 0 {
+                                lattice.distinct_phases(k) as u32
+                            } else {
+                                g
+                            }
+                        })
+                        .unwrap_or(1)
+                })
+                .collect(),
+        ),
+        made_by: Some(format!(
+            "pathsieve {} design (lattice search)",
+            env!("CARGO_PKG_VERSION")
+        )),
+        experiment: Some(exp.title.clone()),
+        notes: vec![],
+    };
+    report.cycle = Some(lattice_cycle(
+        exp,
+        &prep.cycled,
+        &phases,
+        &step_order,
+        &outputs,
+        meta,
+    )?);
+    report.noise_efficiency = 1.0;
+
+    let kept: Vec<Vec<Signature>> = prep.outputs.iter().map(|o| o.kept.clone()).collect();
+    let to = (order + 4).min(crate::limits::MAX_ORDER);
+    report.first_leak_searched_to = to;
+    report.first_leak_order = first_leak_order(
+        exp,
+        &prep.cycled,
+        &kept,
+        &lattice,
+        order + 1,
+        to,
+        req.geometry,
+    );
+    let bound = d.nested_bound.unwrap_or(d.steps * 4).max(d.steps);
+    report.cogwheel = Some(min_cogwheel(&prep.problem, bound, 5_000_000));
+    report.seconds = start.elapsed().as_secs_f64();
+    report.summary = summary_text(&report);
+    Ok(report)
+}
+
+fn summary_text(r: &DesignReport) -> String {
+    let n = r.steps.unwrap_or(0);
+    let kind = match &r.kind {
+        Some(DesignKind::Nested { steps_per_field }) => format!(
+            "a nested cycle ({})",
+            steps_per_field
+                .iter()
+                .map(|c| c.to_string())
+                .collect::<Vec<_>>()
+                .join(" x ")
+        ),
+        Some(DesignKind::Cogwheel { n, winding }) => format!(
+            "a cogwheel cycle Cog{n}({})",
+            winding
+                .iter()
+                .map(|c| c.to_string())
+                .collect::<Vec<_>>()
+                .join(",")
+        ),
+        Some(DesignKind::Lattice { .. }) => {
+            "a lattice cycle that is neither nested nor cogwheel".into()
+        }
+        None => String::new(),
+    };
+    let nested = match r.nested_steps {
+        Some(m) if m > n => format!(" The smallest nested cycle a lab would use by default needs {m} steps: this design takes {:.0} % of its acquisition time.", 100.0 * n as f64 / m as f64),
+        Some(m) => format!(" The smallest nested cycle also needs {m} steps."),
+        None => String::new(),
+    };
+    let cog = match &r.cogwheel {
+        Some(CogwheelScan { best: Some((m, nu)), .. }) => format!(" The smallest cogwheel cycle has {m} steps (winding numbers {nu:?})."),
+        Some(c) if c.budget_exhausted => format!(" No cogwheel cycle with fewer than {} steps exists; the scan stopped on its budget there.", c.excluded_below),
+        Some(c) => format!(" No cogwheel cycle with at most {} steps exists.", c.excluded_below.saturating_sub(1)),
+        None => String::new(),
+    };
+    let leak = match r.first_leak_order {
+        Some(k) => format!(" It first leaks at order {k} (agnostic set)."),
+        None => format!(
+            " It stays clean through order {} (agnostic set, the highest order checked).",
+            r.first_leak_searched_to
+        ),
+    };
+    let proof = if r.proven_minimal {
+        format!(" Minimality is proven among lattice designs (nested and cogwheel cycles included): every lattice design with fewer steps was tested and fails; weighted non-lattice step sets are a separate class.")
+    } else {
+        format!(" The search was interrupted: this design is NOT proven minimal; no lattice design has fewer than {} steps.", r.excluded_below)
+    };
+    format!(
+        "{n} steps: {kind} cycling {} that keeps {} and cancels all {} {} terms through order {} (exact).{nested}{cog}{leak}{proof}",
+        r.cycled_fields.join(", "),
+        r.outputs.iter().map(|(n, t)| format!("{n} {t}")).collect::<Vec<_>>().join(", "),
+        r.rejected_terms,
+        match r.rejection { RejectionSource::Agnostic => "agnostic", RejectionSource::Pathways => "enumerated" },
+        r.order
+    )
+}
