@@ -1,6 +1,7 @@
 //! Command-line syntax (clap) and dispatch to one module per subcommand.
 
 mod agnostic_cmd;
+mod check_cmd;
 mod output;
 mod pathways_cmd;
 
@@ -21,6 +22,8 @@ enum Command {
     Pathways(pathways_cmd::PathwaysArgs),
     /// List the agnostic rejection set: every signature a cycle must cancel through an order.
     Agnostic(agnostic_cmd::AgnosticArgs),
+    /// Check a phase-cycle table exactly: what it keeps, what leaks, first leak order.
+    Check(check_cmd::CheckArgs),
 }
 
 /// Run the parsed command; returns the exit code.
@@ -28,6 +31,7 @@ pub fn run(cli: Cli) -> anyhow::Result<u8> {
     match cli.command {
         Command::Pathways(a) => pathways_cmd::run(a),
         Command::Agnostic(a) => agnostic_cmd::run(a),
+        Command::Check(a) => check_cmd::run(a),
     }
 }
 
