@@ -30,6 +30,7 @@
 #![deny(missing_docs)]
 
 pub mod agnostic;
+pub mod check;
 pub mod cycle;
 pub mod design;
 pub mod error;

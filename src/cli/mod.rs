@@ -2,6 +2,7 @@
 
 mod agnostic_cmd;
 mod design_cmd;
+mod check_cmd;
 mod output;
 mod pathways_cmd;
 
@@ -24,6 +25,8 @@ enum Command {
     Agnostic(agnostic_cmd::AgnosticArgs),
     /// Design the smallest phase cycle that keeps the wanted signals.
     Design(design_cmd::DesignArgs),
+    /// Check a phase-cycle table exactly: what it keeps, what leaks, first leak order.
+    Check(check_cmd::CheckArgs),
 }
 
 /// Run the parsed command; returns the exit code.
@@ -32,6 +35,7 @@ pub fn run(cli: Cli) -> anyhow::Result<u8> {
         Command::Pathways(a) => pathways_cmd::run(a),
         Command::Agnostic(a) => agnostic_cmd::run(a),
         Command::Design(a) => design_cmd::run(a),
+        Command::Check(a) => check_cmd::run(a),
     }
 }
 

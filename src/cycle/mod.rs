@@ -1,13 +1,23 @@
 //! The phase-cycle model shared by the checker, the designer and the exporters: steps with a
 //! phase per field, one weight vector per output, and metadata. File formats live in the
-//! submodules; this module holds only the data and its exact/float views.
+//! submodules ([`toml_format`], [`csv_format`], shared cell texts in [`text`]); this module holds
+//! the data, its exact/float views and [`read_cycle`], which picks the format by extension.
 
+pub mod csv_format;
+pub mod text;
 pub mod toml_format;
 
-use crate::exact::{Cyclo, Turns};
+pub use csv_format::{read_cycle_csv, write_cycle_csv};
+pub use toml_format::{read_cycle_toml, write_cycle_toml};
+
+use crate::error::InputError;
+use crate::exact::{Cyclo, PhaseUnit, Turns};
+use crate::limits::MAX_FILE_BYTES;
 use crate::signature::Signature;
 use num_complex::Complex64;
+use num_traits::{CheckedAdd, CheckedMul};
 use serde::Serialize;
+use std::path::Path;
 
 /// One phase of one step.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -144,5 +154,113 @@ impl Cycle {
             .iter()
             .map(|s| s.iter().map(Phase::turns_f64).collect())
             .collect()
+    }
+}
+
+/// Weights `w_m = exp(-2 pi i t . phi_m) / N` that keep the signature `t` (over the cycle's
+/// fields) with `F(t) = 1`: exact when every phase is exact, approximate otherwise.
+pub fn weights_from_signature(steps: &[Vec<Phase>], t: &[i64]) -> Vec<Weight> {
+    let n = steps.len().max(1) as i64;
+    let inv_n = crate::exact::Q::new(1.into(), n.into());
+    steps
+        .iter()
+        .map(|row| {
+            let exact: Option<Turns> = row
+                .iter()
+                .zip(t)
+                .map(|(p, &tj)| {
+                    p.exact()
+                        .and_then(|x| x.checked_mul(&Turns::from_integer(tj)))
+                })
+                .try_fold(Turns::from_integer(0), |acc, x| {
+                    x.and_then(|x| acc.checked_add(&x))
+                });
+            let exact = exact.map(crate::exact::reduce_turn).and_then(|e| {
+                let d = u32::try_from(*e.denom()).ok()?;
+                Cyclo::root_of_unity(d, -*e.numer()).ok()
+            });
+            match exact {
+                Some(c) => Weight::Exact(c.scale(&inv_n)),
+                None => {
+                    let x: f64 = row
+                        .iter()
+                        .zip(t)
+                        .map(|(p, &tj)| p.turns_f64() * tj as f64)
+                        .sum();
+                    Weight::Approx(
+                        num_complex::Complex64::from_polar(1.0, -std::f64::consts::TAU * x)
+                            / n as f64,
+                    )
+                }
+            }
+        })
+        .collect()
+}
+
+/// Read a cycle table, choosing the format by extension (`.toml`, or `.csv`/`.tsv`/`.txt` for
+/// the plain table). `unit_override` supplies the phase unit when the file does not declare
+/// one; a file that declares a different unit is refused rather than silently reinterpreted.
+pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle, InputError> {
+    let meta = std::fs::metadata(path).map_err(|e| {
+        InputError::new(path, None, None, format!("cannot read the cycle file: {e}"))
+    })?;
+    if meta.len() > MAX_FILE_BYTES {
+        return Err(InputError::new(
+            path,
+            None,
+            None,
+            format!(
+                "file is {} bytes, above the limit of {MAX_FILE_BYTES}; split the table",
+                meta.len()
+            ),
+        ));
+    }
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        InputError::new(path, None, None, format!("cannot read the cycle file: {e}"))
+    })?;
+    let ext = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .unwrap_or("")
+        .to_ascii_lowercase();
+    match ext.as_str() {
+        "toml" => read_cycle_toml(&text, path, unit_override),
+        "csv" | "tsv" | "txt" => read_cycle_csv(&text, path, unit_override),
+        other => Err(InputError::new(
+            path,
+            None,
+            None,
+            format!("unknown cycle file extension `.{other}`; use .toml (cycle file) or .csv (plain table)"),
+        )),
+    }
+}
+
+/// Resolve the phase unit from the file's declaration and the caller's override.
+pub(crate) fn resolve_unit(
+    path: &Path,
+    line: Option<usize>,
+    declared: Option<PhaseUnit>,
+    unit_override: Option<PhaseUnit>,
+) -> Result<PhaseUnit, InputError> {
+    match (declared, unit_override) {
+        (Some(d), Some(o)) if d != o => Err(InputError::new(
+            path,
+            line,
+            Some("unit"),
+            format!(
+                "the file declares unit {} but {} was requested; drop the flag or fix the file",
+                text::unit_name(d),
+                text::unit_name(o)
+            ),
+        )),
+        (Some(d), _) => Ok(d),
+        (None, Some(o)) => Ok(o),
+        (None, None) => Err(InputError::new(
+            path,
+            line,
+            Some("unit"),
+            "no phase unit declared; declare unit = turns, degrees, radians or grid:M in the file \
+             (CSV: a line `# unit = degrees`) or pass --unit",
+        )),
     }
 }

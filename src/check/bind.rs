@@ -1,0 +1,346 @@
+//! Binding a cycle table to an experiment: cycle fields matched to the experiment's by name
+//! (omitted fixed fields get phase 0), approximate phases snapped to fractions within a stated
+//! tolerance, and each cycle output matched to a wanted signal (its kept signatures and the
+//! pathways of other classes sharing them).
+
+use super::CheckError;
+use crate::cycle::{weights_from_signature, Cycle, Phase, Weight, WeightSource};
+use crate::exact::{reduce_turn, snap_to_fraction, Turns};
+use crate::model::{Experiment, PhaseControl};
+use crate::pathways::{resolve_signals, Contamination};
+use crate::signature::Signature;
+
+/// How approximate phases are turned into exact ones.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SnapPolicy {
+    /// Snap at all (otherwise evaluate numerically and mark the verdict not exact).
+    pub enabled: bool,
+    /// Largest distance, in turns, between a given phase and its snapped fraction.
+    pub tolerance_turns: f64,
+    /// Largest denominator of a snapped fraction.
+    pub max_denominator: u64,
+}
+
+impl Default for SnapPolicy {
+    /// 1e-5 turn (0.0036 deg: covers radians written with 4 decimals) and denominators up to
+    /// 3600 (a 0.1-degree grid).
+    fn default() -> Self {
+        SnapPolicy {
+            enabled: true,
+            tolerance_turns: 1e-5,
+            max_denominator: 3600,
+        }
+    }
+}
+
+/// One output bound to the experiment.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BoundOutput {
+    /// Output name.
+    pub name: String,
+    /// Kept signatures over the experiment's fields.
+    pub kept: Vec<Signature>,
+    /// Step weights.
+    pub weights: Vec<Weight>,
+    /// How the weights were given.
+    pub source: WeightSource,
+    /// Unwanted pathways sharing a kept signature (from the experiment's resolution).
+    pub contamination: Vec<Contamination>,
+}
+
+/// A cycle in the experiment's field order.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BoundCycle {
+    /// Phases per step, one per experiment field (snapped where the policy allowed).
+    pub phases: Vec<Vec<Phase>>,
+    /// True for the experiment's fixed fields.
+    pub fixed: Vec<bool>,
+    /// Grid per field from the cycle's metadata, if given (1 for omitted fields).
+    pub declared_grid: Option<Vec<u64>>,
+    /// Outputs.
+    pub outputs: Vec<BoundOutput>,
+    /// Notes for the report (snapping, derived weights).
+    pub notes: Vec<String>,
+}
+
+impl BoundCycle {
+    /// All phases as exact turns, if every one is exact.
+    pub fn exact_phases(&self) -> Option<Vec<Vec<Turns>>> {
+        self.phases
+            .iter()
+            .map(|r| r.iter().map(Phase::exact).collect())
+            .collect()
+    }
+
+    /// Phases in turns as floats.
+    pub fn phases_f64(&self) -> Vec<Vec<f64>> {
+        self.phases
+            .iter()
+            .map(|r| r.iter().map(Phase::turns_f64).collect())
+            .collect()
+    }
+
+    /// Grid (steps per turn) of field `j`: the declared one, else the lcm of its phase
+    /// denominators; `None` when a phase of the field is approximate.
+    pub fn grid(&self, j: usize) -> Option<u64> {
+        if let Some(g) = &self.declared_grid {
+            return g.get(j).copied();
+        }
+        let mut l = 1u64;
+        for row in &self.phases {
+            let d = row[j].exact()?.denom().unsigned_abs();
+            l = num_integer::lcm(l, d);
+        }
+        Some(l)
+    }
+
+    /// The distinct phases of every field.
+    pub fn phases_used(&self, exp: &Experiment) -> Vec<super::FieldPhases> {
+        (0..self.fixed.len())
+            .map(|j| {
+                let mut exact: Vec<Turns> =
+                    self.phases.iter().filter_map(|r| r[j].exact()).collect();
+                exact.sort();
+                exact.dedup();
+                let mut approx: Vec<f64> = self
+                    .phases
+                    .iter()
+                    .filter_map(|r| match r[j] {
+                        Phase::Approx(x) => Some(x),
+                        Phase::Exact(_) => None,
+                    })
+                    .collect();
+                approx.sort_by(f64::total_cmp);
+                approx.dedup();
+                let mut values: Vec<String> = exact
+                    .iter()
+                    .map(|t| crate::cycle::text::format_phase(&Phase::Exact(*t)))
+                    .collect();
+                values.extend(approx.iter().map(|x| format!("~{x}")));
+                super::FieldPhases {
+                    field: exp.fields[j].name.clone(),
+                    fixed: self.fixed[j],
+                    values,
+                    grid: self.grid(j),
+                }
+            })
+            .collect()
+    }
+}
+
+/// Map `cycle` onto `exp`.
+pub fn bind_cycle(
+    exp: &Experiment,
+    cycle: &Cycle,
+    snap: &SnapPolicy,
+) -> Result<BoundCycle, CheckError> {
+    let names = exp.field_names();
+    let fixed: Vec<bool> = exp
+        .fields
+        .iter()
+        .map(|f| f.phase == PhaseControl::Fixed)
+        .collect();
+    let mismatch = |detail: String| CheckError::FieldMismatch {
+        detail,
+        cycle: cycle.fields.clone(),
+        experiment: names.clone(),
+    };
+    // Column of each experiment field in the cycle.
+    let mut col = vec![None; names.len()];
+    for (c, f) in cycle.fields.iter().enumerate() {
+        match names.iter().position(|n| n == f) {
+            Some(j) => col[j] = Some(c),
+            None => {
+                return Err(mismatch(format!(
+                    "cycle field `{f}` is not a field of the experiment"
+                )))
+            }
+        }
+    }
+    for (j, c) in col.iter().enumerate() {
+        if c.is_none() && !fixed[j] {
+            return Err(mismatch(format!(
+                "experiment field `{}` is cycled but has no column in the cycle (only fixed fields may be omitted)",
+                names[j]
+            )));
+        }
+    }
+    let mut notes = Vec::new();
+    // Fixed fields given in the table must be constant.
+    for (j, c) in col.iter().enumerate() {
+        if let (true, Some(c)) = (fixed[j], *c) {
+            let first = cycle.steps.first().map(|r| r[c].turns_f64());
+            if let Some(m) = cycle
+                .steps
+                .iter()
+                .position(|r| Some(r[c].turns_f64()) != first)
+            {
+                return Err(CheckError::FieldMismatch {
+                    detail: format!(
+                        "field `{}` is fixed in the experiment but the cycle changes its phase at step {}; set phase = \"cycled\" in the experiment or make the column constant",
+                        names[j],
+                        m + 1
+                    ),
+                    cycle: cycle.fields.clone(),
+                    experiment: names.clone(),
+                });
+            }
+        }
+    }
+    // Phases in experiment order, snapped if allowed.
+    let mut snapped = 0usize;
+    let mut worst = 0.0f64;
+    let mut unsnapped = 0usize;
+    let mut phases = Vec::with_capacity(cycle.len());
+    for row in &cycle.steps {
+        let mut out = Vec::with_capacity(names.len());
+        for c in &col {
+            let p = match c {
+                None => Phase::Exact(Turns::from_integer(0)),
+                Some(c) => row[*c].clone(),
+            };
+            let p = match p {
+                Phase::Approx(x) if snap.enabled => {
+                    match snap_to_fraction(x, snap.max_denominator, snap.tolerance_turns) {
+                        Some(t) => {
+                            snapped += 1;
+                            worst = worst.max((x - *t.numer() as f64 / *t.denom() as f64).abs());
+                            Phase::Exact(reduce_turn(t))
+                        }
+                        None => {
+                            unsnapped += 1;
+                            Phase::Approx(x)
+                        }
+                    }
+                }
+                Phase::Approx(x) => {
+                    unsnapped += 1;
+                    Phase::Approx(x)
+                }
+                e => e,
+            };
+            out.push(p);
+        }
+        phases.push(out);
+    }
+    if snapped > 0 {
+        notes.push(format!(
+            "{snapped} approximate phase(s) snapped to fractions of a turn with denominator <= {} within {:e} turn (largest change {:.3e} turn = {:.3e} deg); the verdict is exact for the snapped cycle, see --tolerance for the effect of the difference",
+            snap.max_denominator, snap.tolerance_turns, worst, worst * 360.0
+        ));
+    }
+    if unsnapped > 0 {
+        notes.push(format!(
+            "{unsnapped} phase(s) are not rational fractions of a turn within the snapping tolerance; outputs are evaluated numerically with an error bound and their verdicts are NOT exact"
+        ));
+    }
+    let declared_grid = cycle.meta.grid.as_ref().and_then(|g| {
+        if g.len() != cycle.fields.len() {
+            notes.push(format!(
+                "the declared grid has {} entries for {} cycle fields; ignored (grids inferred from the phases)",
+                g.len(),
+                cycle.fields.len()
+            ));
+            return None;
+        }
+        Some(col.iter().map(|c| c.map_or(1, |c| u64::from(g[c]))).collect())
+    });
+    let outputs = bind_outputs(exp, cycle, &col, &phases, &mut notes)?;
+    Ok(BoundCycle {
+        phases,
+        fixed,
+        declared_grid,
+        outputs,
+        notes,
+    })
+}
+
+fn bind_outputs(
+    exp: &Experiment,
+    cycle: &Cycle,
+    col: &[Option<usize>],
+    phases: &[Vec<Phase>],
+    notes: &mut Vec<String>,
+) -> Result<Vec<BoundOutput>, CheckError> {
+    let resolved = resolve_signals(exp)?;
+    let wanted_names: Vec<String> = resolved.iter().map(|r| r.name.clone()).collect();
+    let embed = |t: &Signature| -> Signature {
+        Signature(col.iter().map(|c| c.map_or(0, |c| t.0[c])).collect())
+    };
+    let mut out = Vec::new();
+    if cycle.outputs.is_empty() {
+        if resolved.is_empty() {
+            return Err(CheckError::OutputMismatch(
+                "the cycle gives no weights and the experiment names no wanted signal; add [[output]] tables (or w:NAME columns) or [[signal]]s".into(),
+            ));
+        }
+        notes.push("the cycle gives no weights: each wanted signal's weights are derived from its first kept signature, w_m = exp(-2 pi i t.phi_m) / N".into());
+        for r in resolved {
+            let t = r.kept[0].clone();
+            out.push(BoundOutput {
+                name: r.name,
+                weights: weights_from_signature(phases, &t.0),
+                source: WeightSource::FromSignature(t),
+                kept: r.kept,
+                contamination: r.contamination,
+            });
+        }
+        return Ok(out);
+    }
+    let given: Vec<&str> = cycle.outputs.iter().map(|o| o.name.as_str()).collect();
+    let missing: Vec<&String> = wanted_names
+        .iter()
+        .filter(|n| !given.contains(&n.as_str()))
+        .collect();
+    if !missing.is_empty() {
+        return Err(CheckError::OutputMismatch(format!(
+            "the cycle gives weights for [{}] but not for the wanted signal(s) [{}] of the experiment; add a weight column w:NAME (CSV) or an [[output]] (TOML) for each, or remove the signal from the experiment",
+            given.join(", "),
+            missing.iter().map(|s| s.as_str()).collect::<Vec<_>>().join(", ")
+        )));
+    }
+    for o in &cycle.outputs {
+        if o.weights.len() != cycle.len() {
+            return Err(CheckError::OutputMismatch(format!(
+                "output `{}` has {} weights for {} steps",
+                o.name,
+                o.weights.len(),
+                cycle.len()
+            )));
+        }
+        let r = resolved.iter().find(|r| r.name == o.name);
+        let (kept, contamination) = match (r, &o.source) {
+            (Some(r), _) => (r.kept.clone(), r.contamination.clone()),
+            (None, WeightSource::FromSignature(t)) => {
+                let t = embed(t);
+                if exp.detection.order_parity().is_some() && t.sum() != 0 {
+                    return Err(CheckError::OutputMismatch(format!(
+                        "output `{}`: signature {t} over the experiment's fields does not sum to 0; add the omitted fixed field column(s) to the cycle or name the output after a signal of the experiment",
+                        o.name
+                    )));
+                }
+                (vec![t], Vec::new())
+            }
+            (None, WeightSource::Explicit) => {
+                return Err(CheckError::OutputMismatch(format!(
+                    "output `{}` is not a wanted signal of the experiment (signals: [{}]) and gives explicit weights, so what it keeps is unknown; rename it or give from_signature",
+                    o.name,
+                    wanted_names.join(", ")
+                )))
+            }
+        };
+        // Weights derived from a signature follow the (possibly snapped) phases.
+        let weights = match &o.source {
+            WeightSource::FromSignature(t) => weights_from_signature(phases, &embed(t).0),
+            WeightSource::Explicit => o.weights.clone(),
+        };
+        out.push(BoundOutput {
+            name: o.name.clone(),
+            kept,
+            weights,
+            source: o.source.clone(),
+            contamination,
+        });
+    }
+    Ok(out)
+}

@@ -1,0 +1,317 @@
+//! `pathsieve check`: exact check of a phase-cycle table against an experiment. Parses the
+//! flags into a [`CheckRequest`], calls the library and renders the report as tables or JSON.
+//! Exit code 0 when clean through the order, 1 when anything leaks.
+
+use super::output::{print, print_json, table};
+use anyhow::{bail, Context};
+use clap::Args;
+use pathsieve::check::{
+    check_cycle, CheckReport, CheckRequest, RejectionSource, SnapPolicy, ToleranceRequest,
+};
+use pathsieve::cycle::{read_cycle, text::parse_unit};
+use pathsieve::exact::{parse_phase, PhaseUnit, PhaseValue};
+use pathsieve::experiment_file::read_experiment;
+use std::fmt::Write as _;
+use std::path::PathBuf;
+
+/// Arguments of `pathsieve check`.
+#[derive(Args, Debug)]
+pub struct CheckArgs {
+    /// Experiment file (TOML).
+    experiment: PathBuf,
+    /// Cycle table: a TOML cycle file or a CSV table (docs/cycle-format.md).
+    cycle: PathBuf,
+    /// Order K of the rejection set (default: the experiment's order).
+    #[arg(long, value_name = "K")]
+    order: Option<u32>,
+    /// Reject the enumerated pathways through K (and their conjugates) instead of the
+    /// agnostic set.
+    #[arg(long)]
+    from_pathways: bool,
+    /// Do not drop coherent terms the beam geometry fails to phase-match.
+    #[arg(long)]
+    no_geometry: bool,
+    /// Search the first leak up to this order (default: order + 4).
+    #[arg(long, value_name = "K")]
+    leak_search: Option<u32>,
+    /// Phase unit of the table when the file does not declare one: turns, degrees, radians,
+    /// grid:M.
+    #[arg(long, value_name = "UNIT")]
+    unit: Option<String>,
+    /// Never snap approximate phases to fractions; evaluate them numerically (not exact).
+    #[arg(long)]
+    no_snap: bool,
+    /// Snapping tolerance in turns (default 1e-5).
+    #[arg(long, value_name = "TURNS")]
+    snap_tolerance: Option<f64>,
+    /// Largest denominator of a snapped phase (default 3600).
+    #[arg(long, value_name = "Q")]
+    max_denominator: Option<u64>,
+    /// Tolerance analysis for phase errors of this size (degrees unless suffixed, e.g.
+    /// `0.5`, `0.002turn`, `pi/360 rad`).
+    #[arg(long, value_name = "DELTA")]
+    tolerance: Option<String>,
+    /// With --tolerance: also quantise the phases to 2^B steps per turn.
+    #[arg(long, value_name = "B")]
+    bits: Option<u32>,
+    /// List at most this many leaks per output (all are counted).
+    #[arg(long, value_name = "N", default_value_t = pathsieve::check::DEFAULT_MAX_LISTED)]
+    max_listed: usize,
+    /// Machine-readable JSON on stdout.
+    #[arg(long)]
+    json: bool,
+}
+
+fn request(a: &CheckArgs) -> anyhow::Result<CheckRequest> {
+    let mut snap = SnapPolicy {
+        enabled: !a.no_snap,
+        ..SnapPolicy::default()
+    };
+    if let Some(t) = a.snap_tolerance {
+        if !(t.is_finite() && (0.0..0.5).contains(&t)) {
+            bail!("--snap-tolerance {t}: give a tolerance in turns in [0, 0.5), e.g. 1e-6");
+        }
+        snap.tolerance_turns = t;
+    }
+    if let Some(q) = a.max_denominator {
+        if q == 0 || q > u64::from(pathsieve::exact::MAX_ORDER) {
+            bail!(
+                "--max-denominator {q}: use 1..={}",
+                pathsieve::exact::MAX_ORDER
+            );
+        }
+        snap.max_denominator = q;
+    }
+    let tolerance = match &a.tolerance {
+        None => {
+            if a.bits.is_some() {
+                bail!("--bits goes with --tolerance DELTA");
+            }
+            None
+        }
+        Some(t) => {
+            let d = match parse_phase(t, PhaseUnit::Degrees)
+                .with_context(|| format!("--tolerance `{t}`"))?
+            {
+                PhaseValue::Exact(r) => *r.numer() as f64 / *r.denom() as f64,
+                PhaseValue::Approx { turns } => turns,
+            };
+            if let Some(b) = a.bits {
+                if !(1..=32).contains(&b) {
+                    bail!("--bits {b}: use 1..=32");
+                }
+            }
+            Some(ToleranceRequest {
+                delta_turns: d,
+                bits: a.bits,
+            })
+        }
+    };
+    Ok(CheckRequest {
+        order: a.order,
+        source: if a.from_pathways {
+            RejectionSource::FromPathways
+        } else {
+            RejectionSource::Agnostic {
+                geometry: a.no_geometry.then_some(false),
+            }
+        },
+        leak_search_to: a.leak_search,
+        snap,
+        tolerance,
+        max_listed: a.max_listed,
+    })
+}
+
+/// Run the subcommand.
+pub fn run(a: CheckArgs) -> anyhow::Result<u8> {
+    let req = request(&a)?;
+    let unit = match &a.unit {
+        Some(u) => Some(parse_unit(u).map_err(|m| anyhow::anyhow!("--unit: {m}"))?),
+        None => None,
+    };
+    let exp = read_experiment(&a.experiment)?;
+    let cycle = read_cycle(&a.cycle, unit)?;
+    let report = check_cycle(&exp, &cycle, &req).with_context(|| {
+        format!(
+            "checking {} against {}",
+            a.cycle.display(),
+            a.experiment.display()
+        )
+    })?;
+    if a.json {
+        print_json(&report)?;
+    } else {
+        print(&render(&report))?;
+    }
+    Ok(if report.clean { 0 } else { 1 })
+}
+
+fn render(r: &CheckReport) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "{} — {} steps, {}; fields {}",
+        r.experiment,
+        r.steps,
+        r.detection,
+        r.fields.join(", ")
+    );
+    let _ = writeln!(s, "rejection set: {}", r.rejection);
+    let _ = writeln!(
+        s,
+        "arithmetic: {}",
+        if r.exact {
+            "exact (cyclotomic)"
+        } else {
+            "NOT exact for some outputs (numeric, see notes)"
+        }
+    );
+    for n in &r.notes {
+        let _ = writeln!(s, "note: {n}");
+    }
+    let mut t = table(&["field", "phases used (turns)", "grid"]);
+    for f in &r.phases_used {
+        let name = if f.fixed {
+            format!("{} (fixed)", f.field)
+        } else {
+            f.field.clone()
+        };
+        t.add_row(vec![
+            name,
+            f.values.join(" "),
+            f.grid.map_or("-".into(), |g| g.to_string()),
+        ]);
+    }
+    let _ = writeln!(s, "{t}");
+    for o in &r.outputs {
+        let _ = writeln!(
+            s,
+            "\noutput {} — {} ({}), weights {}, noise efficiency {:.4}",
+            o.name,
+            if o.clean { "CLEAN" } else { "LEAKS" },
+            if o.exact { "exact" } else { "not exact" },
+            o.weights,
+            o.noise_efficiency
+        );
+        let mut t = table(&["term", "signature", "F", "|F|", "note"]);
+        for k in &o.kept {
+            t.add_row(vec![
+                "kept".into(),
+                k.signature.to_string(),
+                k.value
+                    .exact
+                    .clone()
+                    .unwrap_or_else(|| fmt_c(k.value.re, k.value.im)),
+                format!("{:.6}", k.value.abs),
+                format!("noise eff. {:.4}", k.noise_efficiency),
+            ]);
+        }
+        for c in &o.conjugates {
+            t.add_row(vec![
+                "conjugate".into(),
+                c.signature.to_string(),
+                c.value
+                    .exact
+                    .clone()
+                    .unwrap_or_else(|| fmt_c(c.value.re, c.value.im)),
+                format!("{:.6}", c.value.abs),
+                if c.cancelled {
+                    "cancelled".into()
+                } else {
+                    "PASSES".into()
+                },
+            ]);
+        }
+        for l in &o.leaks {
+            let origin = match &l.origin {
+                pathsieve::check::Origin::OtherOutput(n) => format!("output {n}"),
+                pathsieve::check::Origin::Agnostic => format!("order {}", l.weight),
+                pathsieve::check::Origin::Pathway => "pathway".into(),
+                pathsieve::check::Origin::Conjugate => "conjugate".into(),
+            };
+            t.add_row(vec![
+                "LEAK".into(),
+                l.signature.to_string(),
+                l.value
+                    .exact
+                    .clone()
+                    .unwrap_or_else(|| fmt_c(l.value.re, l.value.im)),
+                format!("{:.6}", l.value.abs),
+                format!("{origin}, {}", l.direction),
+            ]);
+        }
+        let _ = writeln!(s, "{t}");
+        let _ = writeln!(
+            s,
+            "rejected terms checked: {}, leaking: {}{}",
+            o.rejected_checked,
+            o.leak_count,
+            if o.leak_count > o.leaks.len() {
+                format!(" (first {} listed)", o.leaks.len())
+            } else {
+                String::new()
+            }
+        );
+        match &o.first_leak {
+            Some(f) => {
+                let _ = writeln!(
+                    s,
+                    "first leak at {} {}: {} (|F| = {:.4})",
+                    f.measure, f.order, f.signature, f.abs
+                );
+            }
+            None => {
+                let _ = writeln!(
+                    s,
+                    "no leak through order {} (agnostic search)",
+                    r.leak_search_to
+                );
+            }
+        }
+        for l in &o.lost {
+            let _ = writeln!(s, "LOST: the wanted term {l} is cancelled (F = 0)");
+        }
+        for i in &o.inseparable {
+            let _ = writeln!(
+                s,
+                "inseparable ({:?}): {}\n  remedy: {}",
+                i.kind, i.explanation, i.remedy
+            );
+        }
+        if let Some(tol) = &o.tolerance {
+            let _ = writeln!(s, "tolerance (phase error {:.4} deg): worst-case leak {:.3e}, RMS leak {:.3e} (relative to |F(t)|){}", tol.delta_degrees, tol.worst_case_max, tol.rms_max, match (tol.bits, tol.quantised_max) { (Some(b), Some(q)) => format!("; {b}-bit quantisation leak {q:.3e}"), _ => String::new() });
+            let d: Vec<String> = tol
+                .drift
+                .iter()
+                .take(5)
+                .map(|f| format!("{} {:.3e}", f.signature, f.relative))
+                .collect();
+            let _ = writeln!(
+                s,
+                "drift first moment (lowest-order backgrounds, largest first): {}",
+                d.join(", ")
+            );
+        }
+    }
+    let _ = writeln!(
+        s,
+        "\nverdict: {}{}",
+        if r.clean {
+            format!("clean through order {}", r.order)
+        } else {
+            format!("leaks (through order {})", r.order)
+        },
+        r.first_leak_order
+            .map_or(String::new(), |k| format!("; first leak order {k}"))
+    );
+    s
+}
+
+fn fmt_c(re: f64, im: f64) -> String {
+    format!(
+        "~{re:.6}{}{:.6}i",
+        if im < 0.0 { "-" } else { "+" },
+        im.abs()
+    )
+}
