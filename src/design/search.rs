@@ -5,8 +5,13 @@
 //!
 //! Preference among lattices of the minimal index (deterministic): a nested cycle
 //! if one exists (the lexicographically smallest step-count tuple), else the first
-//! valid lattice in engine order (diagonal entries by ascending divisors, row by
-//! row; then reduced off-diagonal entries, first column slowest).
+//! valid lattice in engine order: HNF diagonal tuple `(h_00, ..., h_nn)`
+//! lexicographically smallest, then the off-diagonal entries read row by row.
+//!
+//! Exhaustiveness: windows `[lo, 2 lo)` of indices are scanned in turn; inside a
+//! window every HNF whose rows pass the prefix tests is generated, and a prefix is
+//! only cut when a forbidden difference (or grid, cap or kept condition) already
+//! decided by its rows fails, which no completion can repair.
 
 use std::sync::atomic::{AtomicBool, AtomicU64};
 

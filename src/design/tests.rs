@@ -376,8 +376,9 @@ fn small_problem() -> impl Strategy<Value = LatticeProblem> {
             proptest::collection::vec(prop_oneof![Just(0u32), 1u32..=4], n),
             v.clone(),
             proptest::collection::vec(v, 1..6),
+            prop_oneof![Just(None), (2u32..=5).prop_map(Some)],
         )
-            .prop_map(|(n, grid, t, rejected)| LatticeProblem {
+            .prop_map(|(n, grid, t, rejected, cap)| LatticeProblem {
                 dims: n,
                 grid,
                 outputs: vec![OutputSpec {
@@ -386,7 +387,7 @@ fn small_problem() -> impl Strategy<Value = LatticeProblem> {
                 }],
                 rejected,
                 max_steps: 40,
-                max_phases_per_field: None,
+                max_phases_per_field: cap,
             })
     })
 }
