@@ -323,6 +323,17 @@ fn identical_and_aliased_signatures_are_reported() {
         search(&p, &SearchControl::new(&cancel)).unwrap(),
         SearchOutcome::Inseparable { .. }
     ));
+    // Pump-pump scatter e1 - e2 equals the kept NR signature in pump-probe geometry
+    // (domain notes, section 4): inseparable.
+    let pp = problem(
+        2,
+        vec![("R+NR", vec![vec![-1, 1], vec![1, -1]])],
+        vec![vec![1, -1]],
+    );
+    assert!(matches!(
+        search(&pp, &SearchControl::new(&cancel)).unwrap(),
+        SearchOutcome::Inseparable { .. }
+    ));
     let mut p = problem(1, vec![("a", vec![vec![1]])], vec![vec![5]]);
     p.grid = vec![4];
     match search(&p, &SearchControl::new(&cancel)).unwrap() {
