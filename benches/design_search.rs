@@ -141,7 +141,22 @@ fn main() {
         }
         let cancel = AtomicBool::new(false);
         let t0 = Instant::now();
-        let out = search(&p, &SearchControl::new(&cancel));
+        let verbose = std::env::var_os("DESIGN_PROGRESS").is_some();
+        let report = move |pr: pathsieve::design::Progress| {
+            if verbose {
+                eprintln!(
+                    "  [{:.2}s] scanning from N = {}, {} tested",
+                    t0.elapsed().as_secs_f64(),
+                    pr.index,
+                    pr.lattices_tested
+                );
+            }
+        };
+        let ctl = SearchControl {
+            cancel: &cancel,
+            progress: Some(&report),
+        };
+        let out = search(&p, &ctl);
         let dt = t0.elapsed().as_secs_f64();
         match out {
             Ok(SearchOutcome::Found(d)) => println!(

@@ -7,6 +7,10 @@
 //! `G = Z^k / L_{k-1}` (kept in Smith coordinates): a vector `(d', d_k)` lies in
 //! `L_k` iff `D | d_k` and `(d_k / D) [h'] = [d']` in G. The classes `[h']` are walked
 //! over the HNF box of reduced off-diagonal entries, so each lattice is met once.
+//!
+//! Per prefix and diagonal D, the forbidden differences are applied as a kill bitmap
+//! over G (solve `c x = y` for each), stopping as soon as every class is killed; the
+//! box walk then only reads one bit per candidate.
 
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 
@@ -175,7 +179,8 @@ impl Engine {
             }
         };
         let mut fimg: Vec<i64> = vec![0; forb.len() * r];
-        let mut have_group = vec![false; self.groups[k].len()];
+        let mut have = vec![false; forb.len()];
+        let mut solve_cache: Vec<Option<SolveRow>> = Vec::new();
         let strides: Vec<usize> = g
             .inv
             .iter()
@@ -227,31 +232,34 @@ impl Engine {
             }
             let reqs: Vec<(i64, &[i64])> =
                 qy.iter().map(|(dk, y)| (dk / d, y.as_slice())).collect();
-            // Mark every class x with c x = y for a forbidden (c = d_k / D, y = [d']).
+            // Mark every class x with c x = y for a forbidden (c = d_k / D, y = [d']);
+            // stop as soon as every class is killed.
             if any_killed {
                 killed.iter_mut().for_each(|v| *v = false);
                 any_killed = false;
             }
-            for (gi, &(val, a, b)) in self.groups[k].iter().enumerate() {
+            let mut alive = killed.len();
+            'groups: for &(val, a, b) in &self.groups[k] {
                 if val % d != 0 {
                     continue;
                 }
-                if !have_group[gi] {
-                    for i in a..b {
-                        image(&forb[i], &mut fimg[i * r..(i + 1) * r]);
-                    }
-                    have_group[gi] = true;
-                }
                 any_killed = true;
+                let c = val / d;
                 for i in a..b {
-                    mark_solutions(
-                        &g.inv,
-                        &strides,
-                        val / d,
-                        &fimg[i * r..(i + 1) * r],
-                        &mut killed,
-                    );
+                    if !have[i] {
+                        image(&forb[i], &mut fimg[i * r..(i + 1) * r]);
+                        have[i] = true;
+                    }
+                    let y = &fimg[i * r..(i + 1) * r];
+                    alive -= mark_solutions(&g.inv, &strides, c, y, &mut killed, &mut solve_cache);
+                    if alive == 0 {
+                        break 'groups;
+                    }
                 }
+            }
+            if alive == 0 {
+                sink.tested += killed.len() as u64;
+                continue;
             }
             let mut h = vec![0i64; k];
             let mut x = vec![0i64; r];
@@ -333,9 +341,20 @@ impl Engine {
     }
 }
 
-/// Marks all `x` in `Z_{s_1} x ... x Z_{s_r}` with `c x = y` (componentwise).
-fn mark_solutions(inv: &[i64], strides: &[usize], c: i64, y: &[i64], killed: &mut [bool]) {
-    // Per component: solutions x0 + t * (s / g), t in 0..g, if g | y.
+/// Per component `(g, s / g, (c / g)^-1 mod s / g)` for one multiplier c.
+type SolveRow = [(i64, i64, i64); 8];
+
+/// Marks all `x` in `Z_{s_1} x ... x Z_{s_r}` with `c x = y` (componentwise) and
+/// returns how many were not marked before. `cache[c]` holds, per component,
+/// `(g, s / g, (c / g)^-1 mod s / g)` with `g = gcd(c, s)`.
+fn mark_solutions(
+    inv: &[i64],
+    strides: &[usize],
+    c: i64,
+    y: &[i64],
+    killed: &mut [bool],
+    cache: &mut Vec<Option<SolveRow>>,
+) -> usize {
     let r = inv.len();
     if c == 1 {
         let idx: usize = y
@@ -343,38 +362,51 @@ fn mark_solutions(inv: &[i64], strides: &[usize], c: i64, y: &[i64], killed: &mu
             .zip(strides)
             .map(|(&yi, &st)| yi as usize * st)
             .sum();
+        let fresh = !killed[idx];
         killed[idx] = true;
-        return;
+        return usize::from(fresh);
     }
-    let mut base = [0i64; 8];
-    let mut step = [0i64; 8];
-    let mut count = [0i64; 8];
-    for i in 0..r {
-        let s = inv[i];
-        let cm = c.rem_euclid(s);
-        let g = gcd(cm, s);
-        if y[i] % g != 0 {
-            return;
+    let cu = c as usize;
+    if cache.len() <= cu {
+        cache.resize(cu + 1, None);
+    }
+    let tab = *cache[cu].get_or_insert_with(|| {
+        let mut t = [(1i64, 1i64, 0i64); 8];
+        for i in 0..r {
+            let s = inv[i];
+            let cm = c.rem_euclid(s);
+            let g = gcd(cm, s);
+            let m = s / g;
+            t[i] = (g, m, mod_inverse((cm / g).rem_euclid(m), m));
         }
-        let m = s / g;
-        let inv_c = mod_inverse((cm / g).rem_euclid(m), m);
-        base[i] = ((y[i] / g) as i128 * inv_c as i128).rem_euclid(m as i128) as i64;
-        step[i] = m;
-        count[i] = g;
+        t
+    });
+    // Per component: solutions x0 + t * (s / g), t in 0..g, if g | y.
+    let mut base = [0i64; 8];
+    for i in 0..r {
+        let (g, m, inv_c) = tab[i];
+        if y[i] % g != 0 {
+            return 0;
+        }
+        base[i] = (y[i] / g) * inv_c % m;
     }
+    let mut fresh = 0;
     let mut t = [0i64; 8];
     loop {
         let idx: usize = (0..r)
-            .map(|i| (base[i] + t[i] * step[i]) as usize * strides[i])
+            .map(|i| (base[i] + t[i] * tab[i].1) as usize * strides[i])
             .sum();
-        killed[idx] = true;
+        if !killed[idx] {
+            killed[idx] = true;
+            fresh += 1;
+        }
         let mut i = 0;
         loop {
             if i == r {
-                return;
+                return fresh;
             }
             t[i] += 1;
-            if t[i] < count[i] {
+            if t[i] < tab[i].0 {
                 break;
             }
             t[i] = 0;

@@ -73,7 +73,7 @@ pub enum DesignError {
     #[error("signature entry {0} exceeds the limit of 1e6 in magnitude")]
     EntryTooLarge(i64),
     /// `max_steps` is zero or beyond the supported limit.
-    #[error("max_steps = {0} is outside 1..=1e9")]
+    #[error("max_steps = {0} is outside 1..=10000000")]
     BadMaxSteps(u64),
     /// A number overflowed the integer type used.
     #[error("{0} is too large for exact arithmetic")]

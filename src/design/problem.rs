@@ -8,7 +8,8 @@ use super::DesignError;
 /// Largest number of cycled fields the designer accepts.
 pub const MAX_DIMS: usize = 8;
 const MAX_ENTRY: i64 = 1_000_000;
-const MAX_STEPS_LIMIT: u64 = 1_000_000_000;
+/// Search bitmaps are as large as a prefix index, so steps are capped at 1e7.
+const MAX_STEPS_LIMIT: u64 = 10_000_000;
 
 /// One output of the design: the kept signatures, the first being the reference `t`
 /// whose weight exponents are reported.

@@ -5,8 +5,13 @@
 //!
 //! Preference among lattices of the minimal index (deterministic): a nested cycle
 //! if one exists (the lexicographically smallest step-count tuple), else the first
-//! valid lattice in engine order (diagonal entries by ascending divisors, row by
-//! row; then reduced off-diagonal entries, first column slowest).
+//! valid lattice in engine order: HNF diagonal tuple `(h_00, ..., h_nn)`
+//! lexicographically smallest, then the off-diagonal entries read row by row.
+//!
+//! Exhaustiveness: windows `[lo, 2 lo)` of indices are scanned in turn; inside a
+//! window every HNF whose rows pass the prefix tests is generated, and a prefix is
+//! only cut when a forbidden difference (or grid, cap or kept condition) already
+//! decided by its rows fails, which no completion can repair.
 
 use std::sync::atomic::{AtomicBool, AtomicU64};
 
@@ -15,7 +20,7 @@ use rayon::prelude::*;
 
 use super::engine::{order_key, Engine, Sink};
 use super::lattice::Lattice;
-use super::problem::{LatticeProblem, Reduced};
+use super::problem::{normalise, LatticeProblem, Reduced};
 use super::seed::{korobov_seed, nested_seed};
 use super::DesignError;
 
@@ -105,7 +110,8 @@ pub enum SearchOutcome {
         /// A finer grid (each entry a multiple of the old one) that lifts this alias.
         finer_grid_hint: Vec<u32>,
     },
-    /// A signature to cancel is identical to one to keep: no phase cycle separates them.
+    /// A signature to cancel is identical to one to keep (the reference `t_o`, or a
+    /// kept signature of the same output): no phase cycle separates them.
     Inseparable {
         /// Output index.
         output: usize,
@@ -265,7 +271,8 @@ fn scan(
 /// Up-front impossibility checks: identical signatures and grid aliasing.
 fn impossible(problem: &LatticeProblem, red: &Reduced) -> Option<SearchOutcome> {
     for f in &red.forbidden {
-        if f.diff.iter().all(|&x| x == 0) {
+        // Identical to t_o, or to another kept signature of the same output.
+        if f.diff.iter().all(|&x| x == 0) || red.req.contains(&normalise(&f.diff)) {
             return Some(SearchOutcome::Inseparable {
                 output: f.output,
                 rejected: f.other.clone(),

@@ -323,6 +323,17 @@ fn identical_and_aliased_signatures_are_reported() {
         search(&p, &SearchControl::new(&cancel)).unwrap(),
         SearchOutcome::Inseparable { .. }
     ));
+    // Pump-pump scatter e1 - e2 equals the kept NR signature in pump-probe geometry
+    // (domain notes, section 4): inseparable.
+    let pp = problem(
+        2,
+        vec![("R+NR", vec![vec![-1, 1], vec![1, -1]])],
+        vec![vec![1, -1]],
+    );
+    assert!(matches!(
+        search(&pp, &SearchControl::new(&cancel)).unwrap(),
+        SearchOutcome::Inseparable { .. }
+    ));
     let mut p = problem(1, vec![("a", vec![vec![1]])], vec![vec![5]]);
     p.grid = vec![4];
     match search(&p, &SearchControl::new(&cancel)).unwrap() {
@@ -376,8 +387,9 @@ fn small_problem() -> impl Strategy<Value = LatticeProblem> {
             proptest::collection::vec(prop_oneof![Just(0u32), 1u32..=4], n),
             v.clone(),
             proptest::collection::vec(v, 1..6),
+            prop_oneof![Just(None), (2u32..=5).prop_map(Some)],
         )
-            .prop_map(|(n, grid, t, rejected)| LatticeProblem {
+            .prop_map(|(n, grid, t, rejected, cap)| LatticeProblem {
                 dims: n,
                 grid,
                 outputs: vec![OutputSpec {
@@ -386,7 +398,7 @@ fn small_problem() -> impl Strategy<Value = LatticeProblem> {
                 }],
                 rejected,
                 max_steps: 40,
-                max_phases_per_field: None,
+                max_phases_per_field: cap,
             })
     })
 }
