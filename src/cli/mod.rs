@@ -1,8 +1,8 @@
 //! Command-line syntax (clap) and dispatch to one module per subcommand.
 
 mod agnostic_cmd;
-mod design_cmd;
 mod check_cmd;
+mod design_cmd;
 mod output;
 mod pathways_cmd;
 

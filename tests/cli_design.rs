@@ -1,0 +1,75 @@
+//! `pathsieve design` as a user runs it: the written cycle passes `pathsieve check`
+//! unchanged, JSON parses back, impossible requests exit 1 with the reason.
+
+mod common;
+
+use std::process::Command;
+
+fn run(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_pathsieve"))
+        .args(args)
+        .output()
+        .expect("runs");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn a_designed_cycle_file_passes_the_checker_unchanged() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("d.cycle.toml");
+    let e = common::scheme("dye-fluorescence-2d.toml");
+    let (code, text, err) = run(&[
+        "design",
+        e.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(text.contains("27 steps"), "{text}");
+    assert!(text.contains("proven"), "{text}");
+    let (code, text, err) = run(&["check", e.to_str().unwrap(), out.to_str().unwrap()]);
+    assert_eq!(code, 0, "check: {text}\n{err}");
+    // Refuses to overwrite without --force, and leaves the file as it was.
+    let before = std::fs::read(&out).unwrap();
+    let (code, _, err) = run(&[
+        "design",
+        e.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--force"), "{err}");
+    assert_eq!(std::fs::read(&out).unwrap(), before);
+}
+
+#[test]
+fn design_json_reports_steps_and_what_is_proven() {
+    let e = common::scheme("carbonyl-pump-probe.toml");
+    let (code, text, _) = run(&["design", e.to_str().unwrap(), "--json"]);
+    assert_eq!(code, 0);
+    let v: serde_json::Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(v["steps"], 4);
+    assert_eq!(v["proven_minimal"], true);
+    assert_eq!(v["cycle"]["steps"].as_array().unwrap().len(), 4);
+}
+
+#[test]
+fn an_impossible_request_exits_one_with_the_reason() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("r.toml");
+    let text = std::fs::read_to_string(common::scheme("carbonyl-pump-probe.toml"))
+        .unwrap()
+        .replace(
+            "classes = [\"rephasing\", \"non-rephasing\"]",
+            "classes = [\"rephasing\"]",
+        );
+    std::fs::write(&f, text).unwrap();
+    let (code, out, _) = run(&["design", f.to_str().unwrap()]);
+    assert_eq!(code, 1);
+    assert!(out.contains("No phase cycle can do this"), "{out}");
+    assert!(out.contains("absorptive spectrum"), "{out}");
+}

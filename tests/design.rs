@@ -1,0 +1,177 @@
+//! The designer against published and common-practice cycles, and every design against the
+//! exact checker.
+
+mod common;
+
+use common::{exp, pulses, LADDER, TWO_LEVEL};
+use pathsieve::check::{check_cycle, CheckRequest, RejectionSource as CheckSource};
+use pathsieve::design::{is_valid, sublattices, SearchControl};
+use pathsieve::experiment_file::read_experiment;
+use pathsieve::plan::{
+    design, prepare, DesignKind, DesignReport, DesignRequest, Impossibility, RejectionSource,
+};
+use proptest::prelude::*;
+use std::sync::atomic::AtomicBool;
+
+fn run(e: &pathsieve::model::Experiment, req: &DesignRequest) -> DesignReport {
+    let cancel = AtomicBool::new(false);
+    design(e, req, &SearchControl::new(&cancel)).expect("design runs")
+}
+
+fn assert_passes_checker(e: &pathsieve::model::Experiment, r: &DesignReport, source: CheckSource) {
+    let cycle = r.cycle.as_ref().expect("a cycle");
+    let req = CheckRequest {
+        order: Some(r.order),
+        source,
+        ..CheckRequest::default()
+    };
+    let report = check_cycle(e, cycle, &req).expect("check runs");
+    assert!(report.exact, "verdict must be exact");
+    assert!(
+        report.clean,
+        "designed cycle leaks: {:#?}",
+        report
+            .outputs
+            .iter()
+            .map(|o| (&o.name, &o.leaks, &o.lost))
+            .collect::<Vec<_>>()
+    );
+    // A cycle written to the file format and read back passes unchanged.
+    let text = pathsieve::cycle::write_cycle_toml(cycle);
+    let back = pathsieve::cycle::read_cycle_toml(&text, "designed.cycle.toml".as_ref(), None)
+        .expect("reads back");
+    assert!(check_cycle(e, &back, &req).unwrap().clean);
+}
+
+#[test]
+fn fluorescence_detected_r_nr_2q_needs_no_more_than_the_published_27_steps() {
+    // Tan, J. Chem. Phys. 129, 124501 (2008) (memory): nested 1x3x3x3 = 27 steps yields R, NR
+    // and 2Q from one data set in collinear fluorescence-detected 2D.
+    let e = read_experiment(&common::scheme("dye-fluorescence-2d.toml")).unwrap();
+    let r = run(&e, &DesignRequest::default());
+    let n = r.steps.expect("a design");
+    assert!(n <= 27, "{n} steps");
+    assert!(r.proven_minimal);
+    assert_eq!(r.nested_steps, Some(27));
+    assert_passes_checker(&e, &r, CheckSource::Agnostic { geometry: None });
+}
+
+#[test]
+fn pump_probe_absorptive_with_pump_scatter_takes_four_steps() {
+    // Common practice in shaper-based 2D IR/visible: a 2x2 cycle of {0, 1/2} turn on both pumps.
+    let e = read_experiment(&common::scheme("carbonyl-pump-probe.toml")).unwrap();
+    let r = run(&e, &DesignRequest::default());
+    assert_eq!(r.steps, Some(4));
+    assert!(r.proven_minimal);
+    assert_eq!(
+        r.kind,
+        Some(DesignKind::Nested {
+            steps_per_field: vec![2, 2]
+        })
+    );
+    assert_passes_checker(&e, &r, CheckSource::Agnostic { geometry: None });
+}
+
+#[test]
+fn rephasing_alone_in_pump_probe_geometry_is_refused_with_the_reason() {
+    // domain.md section 3 (common practice): R's conjugate carries NR's signature.
+    let e = exp(&format!(
+        "order = 3\n[detection]\nmode = \"pump-probe\"\n{}{LADDER}[[signal]]\nname = \"R\"\nclasses = [\"rephasing\"]\n",
+        pulses(3, false).replace("name = \"3\"\n", "name = \"3\"\nphase = \"fixed\"\n")
+    ));
+    let r = run(&e, &DesignRequest::default());
+    assert_eq!(r.steps, None);
+    assert!(r.cycle.is_none());
+    let why = r.impossible.iter().find_map(|i| match i {
+        Impossibility::Contaminated {
+            via_conjugate: true,
+            explanation,
+            ..
+        } => Some(explanation.clone()),
+        _ => None,
+    });
+    let why = why.expect("contamination reported");
+    assert!(why.contains("no phase cycle"), "{why}");
+    assert!(why.contains("geometry") && why.contains("Fourier"), "{why}");
+}
+
+#[test]
+fn spin_three_halves_mqmas_needs_no_more_than_cog23() {
+    // Goldbourt & Madhu, Annu. Rep. NMR Spectrosc. 54, 81 (2005): Cog23(-3,0,1,11) selects
+    // 0 -> +3 -> +1 -> -1 among all coherence orders |p| <= 3.
+    let e = read_experiment(&common::scheme("nmr-spin32-mqmas.toml")).unwrap();
+    let req = DesignRequest {
+        rejection: RejectionSource::Pathways,
+        ..DesignRequest::default()
+    };
+    let r = run(&e, &req);
+    let n = r.steps.expect("a design");
+    assert!(n <= 23, "{n} steps");
+    assert!(r.proven_minimal);
+    assert!(
+        matches!(r.kind, Some(DesignKind::Cogwheel { .. })),
+        "{:?}",
+        r.kind
+    );
+    assert_passes_checker(&e, &r, CheckSource::FromPathways);
+}
+
+#[test]
+fn an_aliasing_grid_is_refused_with_a_finer_grid_suggested() {
+    // On a grid of 2 steps per turn, R (-1,+1,+1,-1) and NR (+1,-1,+1,-1) differ by a vector
+    // in 2Z^n: no cycle on that grid separates them.
+    let e = read_experiment(&common::scheme("dye-fluorescence-2d.toml")).unwrap();
+    let r = run(
+        &e,
+        &DesignRequest {
+            grid: Some(vec![2]),
+            ..DesignRequest::default()
+        },
+    );
+    assert_eq!(r.steps, None);
+    assert!(r
+        .impossible
+        .iter()
+        .any(|i| matches!(i, Impossibility::Aliased { finer_grid, .. } if !finer_grid.is_empty())));
+}
+
+/// Random small experiments: 2-3 pulses (+LO for emission), one or two wanted signatures
+/// drawn from the signal pathways, a grid of 0 (free) or 2..6 steps per turn.
+fn random_case() -> impl Strategy<Value = (String, u32)> {
+    (prop::sample::select(vec!["emission", "population"]), 2usize..=3, 0usize..4, prop::sample::select(vec![0u32, 3, 4, 6, 8]))
+        .prop_map(|(mode, n, pick, grid)| {
+            let (order, fields, levels) = match mode {
+                "emission" => (3, pulses(3, true), TWO_LEVEL),
+                _ => (if n == 2 { 4 } else { 4 }, pulses(4, false), LADDER),
+            };
+            let class = ["rephasing", "non-rephasing", "rephasing", "non-rephasing"][pick];
+            let extra = if pick >= 2 { "\n[[signal]]\nname = \"b\"\nclasses = [\"double-quantum\"]\n" } else { "" };
+            let extra = if mode == "emission" { "" } else { extra };
+            (format!("order = {order}\n[detection]\nmode = \"{mode}\"\n{fields}{levels}[[signal]]\nname = \"a\"\nclasses = [\"{class}\"]\n{extra}"), grid)
+        })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(12))]
+
+    #[test]
+    fn every_design_passes_the_exact_checker_and_no_smaller_lattice_exists((text, grid) in random_case()) {
+        let e = exp(&text);
+        let req = DesignRequest { grid: (grid > 0).then(|| vec![grid]), max_steps: 200, ..DesignRequest::default() };
+        let r = run(&e, &req);
+        if let Some(n) = r.steps {
+            assert_passes_checker(&e, &r, CheckSource::Agnostic { geometry: None });
+            // Brute force over every sublattice of smaller index (small problems only).
+            let prep = prepare(&e, &req).unwrap();
+            if prep.problem.dims <= 3 && n <= 30 {
+                for m in 1..n {
+                    for l in sublattices(prep.problem.dims, m) {
+                        prop_assert!(!is_valid(&prep.problem, &l), "a smaller lattice of index {m} is valid");
+                    }
+                }
+            }
+        } else {
+            prop_assert!(!r.impossible.is_empty() || r.excluded_below > 0);
+        }
+    }
+}
