@@ -59,6 +59,8 @@ pub struct DesignReport {
     pub grid: Vec<u32>,
     /// Outputs with their reference signatures.
     pub outputs: Vec<(String, Signature)>,
+    /// Every signature each output keeps (the reference first).
+    pub kept: Vec<(String, Vec<Signature>)>,
     /// Steps of the design, if one was found.
     pub steps: Option<u64>,
     /// Nested, cogwheel or general lattice.
@@ -129,6 +131,11 @@ pub fn design(
         rejected_terms: prep.rejected.len(),
         grid: prep.problem.grid.clone(),
         outputs: outputs.clone(),
+        kept: prep
+            .outputs
+            .iter()
+            .map(|o| (o.name.clone(), o.kept.clone()))
+            .collect(),
         steps: None,
         kind: None,
         proven_minimal: false,
@@ -369,7 +376,11 @@ fn summary_text(r: &DesignReport) -> String {
     format!(
         "{n} steps: {kind} cycling {} that keeps {} and cancels all {} {} terms through order {} (exact).{nested}{cog}{leak}{proof}",
         r.cycled_fields.join(", "),
-        r.outputs.iter().map(|(n, t)| format!("{n} {t}")).collect::<Vec<_>>().join(", "),
+        r.kept
+            .iter()
+            .map(|(n, ts)| format!("{n} {}", ts.iter().map(|t| t.to_string()).collect::<Vec<_>>().join(" + ")))
+            .collect::<Vec<_>>()
+            .join(", "),
         r.rejected_terms,
         match r.rejection { RejectionSource::Agnostic => "agnostic", RejectionSource::Pathways => "enumerated" },
         r.order
