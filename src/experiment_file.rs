@@ -2,9 +2,8 @@
 //! [`Experiment`]. Every error names the file, the line and the key, and says how to fix it.
 
 use crate::error::InputError;
-use crate::limits::{
-    MAX_COHERENCE, MAX_FIELDS, MAX_FILE_BYTES, MAX_INTERACTIONS_PER_PULSE, MAX_ORDER, MAX_STATES,
-};
+pub use crate::input_text::read_text;
+use crate::limits::{MAX_COHERENCE, MAX_FIELDS, MAX_INTERACTIONS_PER_PULSE, MAX_ORDER, MAX_STATES};
 use crate::model::{
     Detection, Experiment, Field, FieldKind, LevelScheme, PathwayClass, PhaseControl, State,
     Transition, WantedItem, WantedSignal,
@@ -91,49 +90,6 @@ struct RawSignal {
 pub fn read_experiment(path: &Path) -> Result<Experiment, InputError> {
     let text = read_text(path)?;
     parse_experiment(&text, path)
-}
-
-/// Read a whole input file as UTF-8, refusing oversize and non-UTF-8 files with a located error.
-pub fn read_text(path: &Path) -> Result<String, InputError> {
-    let meta = std::fs::metadata(path).map_err(|e| {
-        InputError::new(
-            path,
-            None,
-            None,
-            format!("cannot read the file: {e}; check the path"),
-        )
-    })?;
-    if meta.is_dir() {
-        return Err(InputError::new(
-            path,
-            None,
-            None,
-            "is a directory; give a file",
-        ));
-    }
-    if meta.len() > MAX_FILE_BYTES {
-        return Err(InputError::new(
-            path,
-            None,
-            None,
-            format!(
-                "file is {} bytes, above the limit of {MAX_FILE_BYTES}",
-                meta.len()
-            ),
-        ));
-    }
-    let bytes = std::fs::read(path)
-        .map_err(|e| InputError::new(path, None, None, format!("cannot read the file: {e}")))?;
-    String::from_utf8(bytes).map_err(|e| {
-        let good = e.utf8_error().valid_up_to();
-        let line = e.as_bytes()[..good].iter().filter(|&&c| c == b'\n').count() + 1;
-        InputError::new(
-            path,
-            Some(line),
-            None,
-            format!("the file is not UTF-8 text (invalid byte at offset {good}); save it as UTF-8"),
-        )
-    })
 }
 
 /// Parse and validate experiment text; `path` is used in error messages only.

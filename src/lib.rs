@@ -37,6 +37,7 @@ pub mod error;
 pub mod exact;
 pub mod experiment_file;
 pub mod export;
+pub mod input_text;
 pub mod limits;
 pub mod model;
 pub mod pathways;

@@ -1,19 +1,10 @@
 //! `pathsieve check` as a user runs it: exit codes 0/1/2, JSON parsed back, errors naming row
 //! and column.
 
-use std::process::Command;
+mod common;
 
 fn run(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_pathsieve"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args(args)
-        .output()
-        .expect("the binary runs");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
+    common::run_cli(args)
 }
 
 // Nested 1x3x3x3 on the fluorescence 2D experiment: clean, first leak order 6 (Tan, J. Chem.

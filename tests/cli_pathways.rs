@@ -4,18 +4,9 @@
 mod common;
 
 use std::path::Path;
-use std::process::Command;
 
 fn run(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_pathsieve"))
-        .args(args)
-        .output()
-        .expect("the binary runs");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
+    common::run_cli(args)
 }
 
 fn write(dir: &Path, name: &str, text: &[u8]) -> String {

@@ -12,7 +12,6 @@ pub use toml_format::{read_cycle_toml, write_cycle_toml};
 
 use crate::error::InputError;
 use crate::exact::{Cyclo, PhaseUnit, Turns};
-use crate::limits::MAX_FILE_BYTES;
 use crate::signature::Signature;
 use num_complex::Complex64;
 use num_traits::{CheckedAdd, CheckedMul};
@@ -201,23 +200,7 @@ pub fn weights_from_signature(steps: &[Vec<Phase>], t: &[i64]) -> Vec<Weight> {
 /// the plain table). `unit_override` supplies the phase unit when the file does not declare
 /// one; a file that declares a different unit is refused rather than silently reinterpreted.
 pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle, InputError> {
-    let meta = std::fs::metadata(path).map_err(|e| {
-        InputError::new(path, None, None, format!("cannot read the cycle file: {e}"))
-    })?;
-    if meta.len() > MAX_FILE_BYTES {
-        return Err(InputError::new(
-            path,
-            None,
-            None,
-            format!(
-                "file is {} bytes, above the limit of {MAX_FILE_BYTES}; split the table",
-                meta.len()
-            ),
-        ));
-    }
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        InputError::new(path, None, None, format!("cannot read the cycle file: {e}"))
-    })?;
+    let text = crate::input_text::read_text(path)?;
     let ext = path
         .extension()
         .and_then(|e| e.to_str())

@@ -44,7 +44,7 @@ impl Lattice {
                 .iter()
                 .map(|&v| ((v as i128 * u as i128).rem_euclid(nn as i128)) as i64)
                 .collect();
-            if best.as_ref().map_or(true, |b| cand < *b) {
+            if best.as_ref().is_none_or(|b| cand < *b) {
                 best = Some(cand);
             }
         }

@@ -73,7 +73,7 @@ pub(crate) fn smith(rel: &[Vec<i64>], modulus: i64) -> Option<Presented> {
             let mut best: Option<(usize, usize)> = None;
             for (i, row) in a.iter().enumerate().skip(t) {
                 for (j, &e) in row.iter().enumerate().skip(t) {
-                    if e != 0 && best.map_or(true, |(bi, bj)| e.abs() < a[bi][bj].abs()) {
+                    if e != 0 && best.is_none_or(|(bi, bj)| e.abs() < a[bi][bj].abs()) {
                         best = Some((i, j));
                     }
                 }

@@ -306,7 +306,7 @@ fn finer_grid(grid: &[u32], diff: &[i64]) -> Vec<u32> {
         let q = (d / m as i64).unsigned_abs();
         let p = (2u32..).find(|&p| q % p as u64 != 0).unwrap_or(2);
         let cand = m.saturating_mul(p);
-        if best.map_or(true, |(b, _)| cand < b) {
+        if best.is_none_or(|(b, _)| cand < b) {
             best = Some((cand, j));
         }
     }

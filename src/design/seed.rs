@@ -59,7 +59,7 @@ impl Nested<'_> {
         if r != 0 && r % c as i64 != 0 {
             return false;
         }
-        self.e.cap.map_or(true, |cap| c <= cap as u64)
+        self.e.cap.is_none_or(|cap| c <= cap as u64)
     }
 
     /// True if no forbidden difference decided at level k lies in the prefix.
@@ -151,9 +151,9 @@ pub(crate) fn korobov_seed(e: &Engine, bound: u64) -> Option<Lattice> {
                 .iter()
                 .zip(&nu)
                 .all(|(&g, &v)| g == 0 || (g as i64 * v) % m == 0);
-            let cap_ok = e.cap.map_or(true, |c| {
-                nu.iter().all(|&v| (m / gcd(v, m)) as u64 <= c as u64)
-            });
+            let cap_ok = e
+                .cap
+                .is_none_or(|c| nu.iter().all(|&v| (m / gcd(v, m)) as u64 <= c as u64));
             if !grid_ok || !cap_ok {
                 continue;
             }

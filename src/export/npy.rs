@@ -150,7 +150,7 @@ fn preamble(descr: &str, shape: &[usize], n: usize) -> Result<Vec<u8>, NpyError>
     // 10 = magic (6) + version (2) + header length (2); +1 for the final newline.
     let unpadded = 10 + dict.len() + 1;
     let pad = (ALIGN - unpadded % ALIGN) % ALIGN;
-    dict.extend(std::iter::repeat(' ').take(pad));
+    dict.extend(std::iter::repeat_n(' ', pad));
     dict.push('\n');
     // With at most MAX_NDIM dimensions of at most 20 digits each the header is < 1 KiB.
     let hlen = u16::try_from(dict.len()).map_err(|_| NpyError::BadHeader {

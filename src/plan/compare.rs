@@ -20,9 +20,12 @@ pub struct CogwheelScan {
     pub budget_exhausted: bool,
 }
 
+/// Difference vectors bucketed by the index of their last nonzero entry.
+type Buckets = Vec<Vec<Vec<i64>>>;
+
 /// Forbidden difference vectors (must not satisfy `d.nu = 0 mod N`) bucketed by the index of
 /// their last nonzero entry, and required ones (must satisfy it), per output.
-fn differences(p: &LatticeProblem) -> Vec<(Vec<Vec<Vec<i64>>>, Vec<Vec<Vec<i64>>>)> {
+fn differences(p: &LatticeProblem) -> Vec<(Buckets, Buckets)> {
     let n = p.dims;
     let bucket = |vs: Vec<Vec<i64>>| {
         let mut out = vec![Vec::new(); n];
@@ -85,7 +88,7 @@ pub fn min_cogwheel(p: &LatticeProblem, max_n: u64, node_budget: u64) -> Cogwhee
 /// Depth-first assignment of winding numbers; `None` when the budget ran out.
 fn cog_dfs(
     p: &LatticeProblem,
-    diffs: &[(Vec<Vec<Vec<i64>>>, Vec<Vec<Vec<i64>>>)],
+    diffs: &[(Buckets, Buckets)],
     n: i64,
     j: usize,
     nu: &mut Vec<i64>,

@@ -369,7 +369,7 @@ fn summary_text(r: &DesignReport) -> String {
         ),
     };
     let proof = if r.proven_minimal {
-        format!(" Minimality is proven among lattice designs (nested and cogwheel cycles included): every lattice design with fewer steps was tested and fails; weighted non-lattice step sets are a separate class.")
+        " Minimality is proven among lattice designs (nested and cogwheel cycles included): every lattice design with fewer steps was tested and fails; weighted non-lattice step sets are a separate class.".to_string()
     } else {
         format!(" The search was interrupted: this design is NOT proven minimal; no lattice design has fewer than {} steps.", r.excluded_below)
     };
