@@ -1,5 +1,5 @@
 //! Times the lattice-design search on the reference scenarios (run with
-//! `cargo bench --bench design_search`); figures go to docs/performance-design.md.
+//! `cargo bench --bench design_search`); figures go to docs/performance.md.
 
 use std::sync::atomic::AtomicBool;
 use std::time::Instant;
