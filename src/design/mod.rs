@@ -41,7 +41,8 @@ pub use enumerate::{sublattice_count, sublattices, Sublattices};
 pub use lattice::Lattice;
 pub use problem::{is_valid, LatticeProblem, OutputSpec, MAX_DIMS};
 pub use search::{
-    all_minimal, search, Design, OutputWeights, Progress, SearchControl, SearchOutcome,
+    all_minimal, search, search_with_alternatives, Design, OutputWeights, Progress, SearchControl,
+    SearchOutcome,
 };
 
 /// Errors for malformed design problems or lattice input; each names the bad value.

@@ -136,6 +136,16 @@ pub fn all_minimal(
     run(problem, ctl, limit.max(1)).map(|(_, v)| v)
 }
 
+/// The search and up to `limit` valid lattices of the minimal index in one pass: the
+/// outcome of [`search`] together with the alternatives [`all_minimal`] would list.
+pub fn search_with_alternatives(
+    problem: &LatticeProblem,
+    limit: usize,
+    ctl: &SearchControl,
+) -> Result<(SearchOutcome, Vec<Lattice>), DesignError> {
+    run(problem, ctl, limit.max(1))
+}
+
 fn run(
     problem: &LatticeProblem,
     ctl: &SearchControl,

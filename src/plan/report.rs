@@ -7,7 +7,7 @@ use super::compare::{first_leak_order, min_cogwheel, CogwheelScan};
 use super::to_cycle::lattice_cycle;
 use super::{prepare, DesignRequest, Impossibility, PlanError, RejectionSource};
 use crate::cycle::{Cycle, CycleMeta};
-use crate::design::{all_minimal, search, Lattice, SearchControl, SearchOutcome};
+use crate::design::{search_with_alternatives, Lattice, SearchControl, SearchOutcome};
 use crate::model::Experiment;
 use crate::signature::Signature;
 use serde::Serialize;
@@ -169,7 +169,8 @@ pub fn design(
         report.seconds = start.elapsed().as_secs_f64();
         return Ok(report);
     }
-    let d = match search(&prep.problem, ctl)? {
+    let (outcome, alternatives) = search_with_alternatives(&prep.problem, 16, ctl)?;
+    let d = match outcome {
         SearchOutcome::Found(d) => d,
         SearchOutcome::Aliased {
             output,
@@ -222,7 +223,7 @@ pub fn design(
     // Choose among equal-length designs.
     let t0 = &prep.problem.outputs[0].kept[0];
     let candidates: Vec<Lattice> = if d.proven_minimal {
-        all_minimal(&prep.problem, 16, ctl).unwrap_or_default()
+        alternatives
     } else {
         Vec::new()
     };
