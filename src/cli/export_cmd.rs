@@ -195,11 +195,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
             files.push((sidecar_path(&a.out), m.json_bytes()));
         }
         Format::MaskCsv | Format::MaskNpy => {
-            let sp = a
-                .shaper
-                .as_ref()
-                .map(PathBuf::as_path)
-                .unwrap_or(Path::new(""));
+            let sp = a.shaper.as_deref().unwrap_or(Path::new(""));
             let text = std::fs::read_to_string(sp)
                 .with_context(|| format!("cannot read {}", sp.display()))?;
             let shaper = parse_shaper(&text, sp)?;

@@ -100,7 +100,7 @@ pub fn drift_order(turns: &[Vec<f64>], weights: &[Vec<Complex64>]) -> DriftOrder
     };
     let before = worst(&moments);
     let mut best = before;
-    if n >= 3 && n <= MAX_REORDER_STEPS && !series.is_empty() {
+    if (3..=MAX_REORDER_STEPS).contains(&n) && !series.is_empty() {
         let mut evaluations = 0usize;
         let mut trial = moments.clone();
         let mut improved = true;
@@ -156,18 +156,19 @@ mod tests {
         assert!((d.before - 0.25).abs() < 1e-12); // |-1| / (N=2 * sum|w|=2)
     }
 
-    // Four-step 0,1/4,1/2,3/4 with weights exp(-i 2 pi phi) keeps b = 1 and cancels b = 0;
-    // the order 0, 2, 1, 3 gives moment sum p w = 0*1 + 1*(-1) + 2*(-i) + 3*(i) = -1 + i,
-    // smaller than the designed order's |0 - i*1 - 2 + 3i| = |-2 + 2i| (hand computation).
+    // Four steps at one phase with weights (1, -1, 1, -1) cancel every b alike; hand
+    // computation: designed moment 0 - 1 + 2 - 3 = -2, while the order 1, -1, -1, 1 gives
+    // 0 - 1 - 2 + 3 = 0, which the descent must find.
     #[test]
-    fn descent_lowers_the_first_moment_and_keeps_a_permutation() {
-        let turns: Vec<Vec<f64>> = (0..4).map(|k| vec![k as f64 / 4.0]).collect();
-        let w: Vec<Vec<Complex64>> = turns
+    fn descent_finds_the_zero_moment_order_and_keeps_a_permutation() {
+        let turns = vec![vec![0.0]; 4];
+        let w: Vec<Vec<Complex64>> = [1.0, -1.0, 1.0, -1.0]
             .iter()
-            .map(|p| vec![Complex64::from_polar(0.25, -std::f64::consts::TAU * p[0])])
+            .map(|&x| vec![Complex64::new(x, 0.0)])
             .collect();
         let d = drift_order(&turns, &w);
-        assert!(d.after < d.before, "{d:?}");
+        assert!((d.before - 2.0 / 16.0).abs() < 1e-12, "{d:?}");
+        assert!(d.after < 1e-12, "{d:?}");
         let mut o = d.order.clone();
         o.sort_unstable();
         assert_eq!(o, vec![0, 1, 2, 3]);

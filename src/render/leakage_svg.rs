@@ -12,8 +12,8 @@ const LEFT: f64 = 78.0;
 const RIGHT: f64 = 24.0;
 const PLOT_H: f64 = 230.0;
 const BAND_H: f64 = 34.0;
-const PANEL_GAP: f64 = 78.0;
-const TOP: f64 = 74.0;
+const PANEL_GAP: f64 = 96.0;
+const TOP: f64 = 90.0;
 /// Smallest plotted nonzero |F| (smaller values are drawn on the axis floor).
 const FLOOR_DECADE: i32 = -16;
 /// Most leaks labelled with their signature per panel.
@@ -57,14 +57,15 @@ pub fn leakage_svg(chart: &LeakageChart) -> String {
     let plot_w = all
         .iter()
         .map(|gs| gs.iter().map(|g| group_width(g.terms.len())).sum::<f64>())
-        .fold(520.0, f64::max);
+        .fold(650.0, f64::max);
     let max_abs = chart
         .series
         .iter()
         .flat_map(|s| &s.terms)
         .map(|t| t.abs)
         .fold(1.0, f64::max);
-    let top_decade = max_abs.log10().ceil().max(0.0) as i32;
+    // Headroom above the largest value so dots at |F| = 1 do not sit on the frame.
+    let top_decade = (2.0 * max_abs).log10().ceil().max(1.0) as i32;
     let panel_h = PLOT_H + BAND_H + PANEL_GAP;
     let width = LEFT + plot_w + RIGHT;
     let height = TOP + panel_h * chart.series.len().max(1) as f64;
@@ -76,11 +77,12 @@ pub fn leakage_svg(chart: &LeakageChart) -> String {
         "start",
         "#222",
         &format!(
-            "{} — leakage |F(b)| of each rejected term, {} steps, order {}",
-            chart.title, chart.steps, chart.order
+            "Leakage |F(b)| of each rejected term — {} steps, order {}",
+            chart.steps, chart.order
         ),
     );
-    legend(&mut svg, 10.0, 46.0);
+    svg.text(10.0, 40.0, 11.5, "start", "#555", &chart.title);
+    legend(&mut svg, 10.0, 62.0);
     for (i, (s, gs)) in chart.series.iter().zip(&all).enumerate() {
         let y0 = TOP + panel_h * i as f64 + 20.0;
         panel(&mut svg, s, gs, y0, plot_w, top_decade);
@@ -100,7 +102,7 @@ fn legend(svg: &mut Svg, x: f64, y: f64) {
     for (kind, text) in items {
         marker(svg, kind, x + 6.0, y - 4.0);
         svg.text(x + 16.0, y, 11.0, "start", "#333", text);
-        x += 30.0 + text.chars().count() as f64 * 6.3;
+        x += 34.0 + text.chars().count() as f64 * 6.6;
     }
 }
 
@@ -180,7 +182,6 @@ fn panel(svg: &mut Svg, s: &LeakageSeries, gs: &[Group], y0: f64, plot_w: f64, t
         "F = 0",
     );
     let mut x = LEFT;
-    let mut labelled = 0usize;
     for g in gs {
         let w = group_width(g.terms.len()) * plot_w
             / gs.iter().map(|g| group_width(g.terms.len())).sum::<f64>();
@@ -206,14 +207,6 @@ fn panel(svg: &mut Svg, s: &LeakageSeries, gs: &[Group], y0: f64, plot_w: f64, t
                 continue;
             }
             marker(svg, kind, px, py);
-            if t.kind != TermKind::Wanted && labelled < MAX_LABELS {
-                labelled += 1;
-                svg.raw(&format!(
-                    "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"9\" fill=\"#7b241c\" transform=\"rotate(-50 {:.1} {:.1})\">{}</text>",
-                    px + 5.0, py - 5.0, px + 5.0, py - 5.0,
-                    super::svg::escape(&t.signature.to_string())
-                ));
-            }
         }
         let zeros = g.terms.iter().filter(|t| t.zero).count();
         svg.text(
@@ -233,9 +226,46 @@ fn panel(svg: &mut Svg, s: &LeakageSeries, gs: &[Group], y0: f64, plot_w: f64, t
             &if g.label == "wanted" {
                 format!("{} kept", g.terms.len())
             } else {
-                format!("{} terms, {} zero", g.terms.len(), zeros)
+                format!(
+                    "{} term{}, {} zero",
+                    g.terms.len(),
+                    if g.terms.len() == 1 { "" } else { "s" },
+                    zeros
+                )
             },
         );
         x += w;
+    }
+    // The leaking signatures, largest |F| first, as a text line under the panel.
+    let mut leaking: Vec<&TermPoint> = s
+        .terms
+        .iter()
+        .filter(|t| t.kind != TermKind::Wanted && !t.zero)
+        .collect();
+    leaking.sort_by(|a, b| b.abs.total_cmp(&a.abs));
+    if !leaking.is_empty() {
+        let mut parts: Vec<String> = leaking
+            .iter()
+            .take(MAX_LABELS)
+            .map(|t| format!("{} |F|={:.3}", t.signature, t.abs))
+            .collect();
+        if leaking.len() > MAX_LABELS {
+            parts.push(format!("… {} more", leaking.len() - MAX_LABELS));
+        }
+        let per_line = ((plot_w / 150.0) as usize).max(1);
+        for (i, chunk) in parts.chunks(per_line).take(2).enumerate() {
+            svg.text(
+                LEFT,
+                band_y + BAND_H + 46.0 + 12.0 * i as f64,
+                9.5,
+                "start",
+                "#7b241c",
+                &format!(
+                    "{}{}",
+                    if i == 0 { "leaks: " } else { "" },
+                    chunk.join("; ")
+                ),
+            );
+        }
     }
 }
