@@ -98,7 +98,9 @@ fn wheel(svg: &mut Svg, cycle: &Cycle, j: usize, name: &str, grid: Option<u32>, 
     for (p, count) in &visits {
         let a = std::f64::consts::TAU * p.turns_f64();
         let (c, s) = (a.cos(), -a.sin());
-        let r_dot = 4.0 + 4.0 * (*count as f64 / max_count).sqrt();
+        // Shrink dots on crowded wheels so neighbours do not touch.
+        let spacing = std::f64::consts::TAU * R / visits.len().max(1) as f64;
+        let r_dot = (4.0 + 4.0 * (*count as f64 / max_count).sqrt()).min(spacing / 2.6);
         svg.line(cx, cy, cx + c * R, cy + s * R, "#c9d6e8", 1.0, false);
         svg.circle(cx + c * R, cy + s * R, r_dot, "#1f5fa8", "#12396a");
         if ring_labels {
@@ -136,7 +138,8 @@ fn wheel(svg: &mut Svg, cycle: &Cycle, j: usize, name: &str, grid: Option<u32>, 
         }
     }
     if !ring_labels {
-        let list: Vec<String> = visits.iter().map(|(p, _)| format_phase(p)).collect();
+        let mut list: Vec<String> = vec!["turns:".into()];
+        list.extend(visits.iter().map(|(p, _)| format_phase(p)));
         for (i, chunk) in list.chunks(8).take(3).enumerate() {
             svg.text(
                 cx,
