@@ -3,6 +3,8 @@
 mod agnostic_cmd;
 mod check_cmd;
 mod design_cmd;
+mod draw_cmd;
+mod export_cmd;
 mod output;
 mod pathways_cmd;
 
@@ -27,6 +29,10 @@ enum Command {
     Design(design_cmd::DesignArgs),
     /// Check a phase-cycle table exactly: what it keeps, what leaks, first leak order.
     Check(check_cmd::CheckArgs),
+    /// Write a cycle as phase lists (CSV, JSON, NPY) or pulse-shaper masks, with metadata.
+    Export(export_cmd::ExportArgs),
+    /// Draw pictures (SVG): double-sided diagrams, a leakage chart, phase wheels.
+    Draw(draw_cmd::DrawArgs),
 }
 
 /// Run the parsed command; returns the exit code.
@@ -36,6 +42,8 @@ pub fn run(cli: Cli) -> anyhow::Result<u8> {
         Command::Agnostic(a) => agnostic_cmd::run(a),
         Command::Design(a) => design_cmd::run(a),
         Command::Check(a) => check_cmd::run(a),
+        Command::Export(a) => export_cmd::run(a),
+        Command::Draw(a) => draw_cmd::run(a),
     }
 }
 

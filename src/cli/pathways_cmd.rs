@@ -45,14 +45,14 @@ pub struct PathwaysArgs {
     json: bool,
 }
 
-enum Selector {
+pub(super) enum Selector {
     Class(PathwayClass),
     Population(&'static str),
     Signature(Signature),
 }
 
 impl Selector {
-    fn parse(text: &str, exp: &Experiment) -> anyhow::Result<Self> {
+    pub(super) fn parse(text: &str, exp: &Experiment) -> anyhow::Result<Self> {
         let t = text.trim();
         if let Some(c) = PathwayClass::parse(t) {
             return Ok(Selector::Class(c));
@@ -79,7 +79,7 @@ impl Selector {
         }
     }
 
-    fn keeps(&self, p: &Pathway) -> bool {
+    pub(super) fn keeps(&self, p: &Pathway) -> bool {
         match self {
             Selector::Class(c) => p.class == *c,
             Selector::Population(name) => p.population_class.is_some_and(|pc| pc.short() == *name),

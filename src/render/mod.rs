@@ -3,7 +3,10 @@
 
 pub mod diagram_svg;
 pub mod diagram_text;
+pub mod leakage;
+pub mod leakage_svg;
 pub mod svg;
+pub mod wheels_svg;
 
 use crate::model::Experiment;
 use crate::pathways::{Direction, Element, Interaction, Pathway, Side};

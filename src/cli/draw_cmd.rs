@@ -1,0 +1,175 @@
+//! `pathsieve draw`: SVG pictures — a sheet of double-sided diagrams for one signature or
+//! class, the leakage chart of a cycle, and the phase wheels of a cycle. Files are written with
+//! `safe_write` (no overwrite without --force, never half-written).
+
+use super::pathways_cmd::Selector;
+use anyhow::{bail, Context};
+use clap::{Args, Subcommand};
+use pathsieve::check::CheckRequest;
+use pathsieve::cycle::read_cycle;
+use pathsieve::experiment_file::read_experiment;
+use pathsieve::limits::MAX_LISTED_PATHWAYS;
+use pathsieve::pathways::{self, for_each_pathway, Pathway, Scope};
+use pathsieve::render::{diagram_svg, leakage, leakage_svg, wheels_svg};
+use pathsieve::safe_write::write_atomic;
+use std::path::PathBuf;
+
+/// Arguments of `pathsieve draw`.
+#[derive(Args, Debug)]
+pub struct DrawArgs {
+    #[command(subcommand)]
+    picture: Picture,
+}
+
+#[derive(Subcommand, Debug)]
+enum Picture {
+    /// A sheet of double-sided diagrams of the signal pathways with one signature or class.
+    Diagrams {
+        /// Experiment file (TOML).
+        experiment: PathBuf,
+        /// Signature over all fields, e.g. `-1,1,1,-1`.
+        #[arg(
+            long,
+            value_name = "B",
+            allow_hyphen_values = true,
+            conflicts_with = "class"
+        )]
+        signature: Option<String>,
+        /// Class instead: R, NR, 2Q, other, GSB, SE, ESA.
+        #[arg(long, value_name = "CLASS")]
+        class: Option<String>,
+        /// Add each pathway's complex-conjugate partner (emission and pump-probe detection).
+        #[arg(long)]
+        conjugates: bool,
+        /// Output SVG file.
+        #[arg(long, value_name = "OUT.svg")]
+        out: PathBuf,
+        /// Overwrite an existing file.
+        #[arg(long)]
+        force: bool,
+    },
+    /// |F| of every rejected term on a log axis, grouped by order, wanted terms marked.
+    Leakage {
+        /// Experiment file (TOML).
+        experiment: PathBuf,
+        /// Cycle table (TOML or CSV).
+        cycle: PathBuf,
+        /// Order K of the rejection set (default: the experiment's order).
+        #[arg(long, value_name = "K")]
+        order: Option<u32>,
+        /// Output SVG file.
+        #[arg(long, value_name = "OUT.svg")]
+        out: PathBuf,
+        /// Overwrite an existing file.
+        #[arg(long)]
+        force: bool,
+    },
+    /// One phase wheel per field, with the phases it visits.
+    Wheels {
+        /// Cycle table (TOML or CSV).
+        cycle: PathBuf,
+        /// Output SVG file.
+        #[arg(long, value_name = "OUT.svg")]
+        out: PathBuf,
+        /// Overwrite an existing file.
+        #[arg(long)]
+        force: bool,
+    },
+}
+
+/// Run the subcommand.
+pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
+    match a.picture {
+        Picture::Diagrams {
+            experiment,
+            signature,
+            class,
+            conjugates,
+            out,
+            force,
+        } => {
+            let exp = read_experiment(&experiment)?;
+            let spec = match (&signature, &class) {
+                (Some(s), None) => s.clone(),
+                (None, Some(c)) => c.clone(),
+                _ => bail!("give --signature B (e.g. -1,1,1,-1) or --class R|NR|2Q|GSB|SE|ESA"),
+            };
+            let sel = Selector::parse(&spec, &exp)?;
+            let add_conj = conjugates && pathways::needs_conjugate_rows(&exp);
+            let mut rows: Vec<Pathway> = Vec::new();
+            let mut too_many = false;
+            for_each_pathway(&exp, Scope::Signal, |p| {
+                if sel.keeps(p) {
+                    if rows.len() as u64 >= MAX_LISTED_PATHWAYS {
+                        too_many = true;
+                        return;
+                    }
+                    rows.push(p.clone());
+                    if add_conj {
+                        rows.push(p.conjugated());
+                    }
+                }
+            });
+            if too_many {
+                bail!(
+                    "more than {MAX_LISTED_PATHWAYS} pathways match `{spec}`; narrow the selection"
+                );
+            }
+            if rows.is_empty() {
+                bail!(
+                    "no signal pathway matches `{spec}`; list them with `pathsieve pathways {}`",
+                    experiment.display()
+                );
+            }
+            let title = format!(
+                "{} — {} pathway{} with {spec}",
+                exp.title,
+                rows.len(),
+                if rows.len() == 1 { "" } else { "s" }
+            );
+            write_atomic(
+                &out,
+                diagram_svg::diagrams_svg(&exp, &rows, &title).as_bytes(),
+                force,
+            )?;
+            eprintln!("wrote {} diagrams to {}", rows.len(), out.display());
+        }
+        Picture::Leakage {
+            experiment,
+            cycle,
+            order,
+            out,
+            force,
+        } => {
+            let exp = read_experiment(&experiment)?;
+            let c = read_cycle(&cycle, None)?;
+            let req = CheckRequest {
+                order,
+                ..CheckRequest::default()
+            };
+            let chart = leakage::leakage_chart(&exp, &c, &req).with_context(|| {
+                format!(
+                    "checking {} against {}",
+                    cycle.display(),
+                    experiment.display()
+                )
+            })?;
+            write_atomic(&out, leakage_svg::leakage_svg(&chart).as_bytes(), force)?;
+            eprintln!("wrote the leakage chart to {}", out.display());
+        }
+        Picture::Wheels { cycle, out, force } => {
+            let c = read_cycle(&cycle, None)?;
+            let title = format!(
+                "{} — {} steps",
+                c.meta
+                    .title
+                    .clone()
+                    .unwrap_or_else(|| cycle.display().to_string()),
+                c.len()
+            );
+            write_atomic(&out, wheels_svg::wheels_svg(&c, &title).as_bytes(), force)?;
+            eprintln!("wrote the phase wheels to {}", out.display());
+        }
+    }
+    Ok(0)
+}

@@ -1,0 +1,152 @@
+//! Export metadata: this module owns the provenance every exported file carries (tool name and
+//! version, SHA-256 of the experiment file, grid, unit, step order, field and output names) and
+//! its three written forms: `# key: value` comment lines for CSV, a `meta` object for JSON and a
+//! sidecar `NAME.meta.json` for NPY, which has no metadata slot of its own.
+
+use serde::{Deserialize, Serialize};
+use sha2::{Digest, Sha256};
+use std::path::{Path, PathBuf};
+
+/// Provenance and layout of one export.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct ExportMeta {
+    /// Always `pathsieve`.
+    pub tool: String,
+    /// The tool's version.
+    pub version: String,
+    /// What the file holds (`phases`, `weights`, `phases+weights`, `shaper masks`).
+    pub content: String,
+    /// The experiment file name, if one was given.
+    pub experiment: Option<String>,
+    /// Lower-case hex SHA-256 of the experiment file's bytes, if one was given.
+    pub experiment_sha256: Option<String>,
+    /// The cycle file name.
+    pub cycle: Option<String>,
+    /// The cycle's title.
+    pub title: Option<String>,
+    /// Field names, one per phase column, in column order.
+    pub fields: Vec<String>,
+    /// Output names, one per weight column.
+    pub outputs: Vec<String>,
+    /// Phase unit name (`turns`, `degrees`, `radians`, `grid:M`).
+    pub unit: String,
+    /// Steps per turn per field (declared by the cycle or derived from its exact phases).
+    pub grid: Option<Vec<u64>>,
+    /// Number of steps N.
+    pub steps: usize,
+    /// `designed` or `drift`.
+    pub step_order: String,
+    /// For each exported row, the 0-based step of the cycle file it comes from.
+    pub source_steps: Vec<usize>,
+    /// Free notes (drift moment, checker verdict, mask scale, ...).
+    pub notes: Vec<String>,
+}
+
+impl ExportMeta {
+    /// The metadata as leading `# key: value` CSV comment lines (each line ends in `\n`).
+    /// Keys `unit` and `grid` use the forms the cycle CSV reader understands.
+    pub fn csv_comments(&self) -> String {
+        let mut s = String::new();
+        let mut put = |k: &str, v: &str| {
+            // One line per key: newlines in free text would end the comment early.
+            let v = v.replace(['\n', '\r'], " ");
+            s.push_str(&format!("# {k}: {v}\n"));
+        };
+        put("tool", &format!("{} {}", self.tool, self.version));
+        put("content", &self.content);
+        if let Some(e) = &self.experiment {
+            put("experiment", e);
+        }
+        if let Some(h) = &self.experiment_sha256 {
+            put("experiment_sha256", h);
+        }
+        if let Some(c) = &self.cycle {
+            put("cycle", c);
+        }
+        if let Some(t) = &self.title {
+            put("title", t);
+        }
+        put("fields", &self.fields.join(", "));
+        if !self.outputs.is_empty() {
+            put("outputs", &self.outputs.join(", "));
+        }
+        put("unit", &self.unit);
+        if let Some(g) = &self.grid {
+            let g: Vec<String> = g.iter().map(u64::to_string).collect();
+            put("grid", &g.join("x"));
+        }
+        put("steps", &self.steps.to_string());
+        put("step_order", &self.step_order);
+        let src: Vec<String> = self.source_steps.iter().map(usize::to_string).collect();
+        put("source_steps", &src.join(" "));
+        for n in &self.notes {
+            put("note", n);
+        }
+        s
+    }
+
+    /// The metadata as pretty JSON bytes (the NPY sidecar), with a trailing newline.
+    pub fn json_bytes(&self) -> Vec<u8> {
+        let mut s = serde_json::to_string_pretty(self).unwrap_or_else(|_| "{}".into());
+        s.push('\n');
+        s.into_bytes()
+    }
+}
+
+/// Lower-case hex SHA-256 of some bytes.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    let d = Sha256::digest(bytes);
+    d.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// The sidecar path of an NPY file: `x.npy` -> `x.meta.json` (any other name gets
+/// `.meta.json` appended).
+pub fn sidecar_path(npy: &Path) -> PathBuf {
+    let name = npy
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let stem = name
+        .strip_suffix(".npy")
+        .or_else(|| name.strip_suffix(".NPY"))
+        .unwrap_or(&name);
+    npy.with_file_name(format!("{stem}.meta.json"))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // SHA-256 test vector "abc" (NIST FIPS 180-2, appendix B.1, 2002).
+    #[test]
+    fn sha256_of_abc_matches_the_fips_vector() {
+        assert_eq!(
+            sha256_hex(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+
+    #[test]
+    fn sidecar_replaces_the_npy_extension() {
+        assert_eq!(
+            sidecar_path(Path::new("d/phases.npy")),
+            PathBuf::from("d/phases.meta.json")
+        );
+        assert_eq!(sidecar_path(Path::new("w")), PathBuf::from("w.meta.json"));
+    }
+
+    #[test]
+    fn csv_comments_are_one_line_per_key() {
+        let m = ExportMeta {
+            tool: "pathsieve".into(),
+            version: "0".into(),
+            title: Some("a\nb".into()),
+            unit: "degrees".into(),
+            grid: Some(vec![1, 3]),
+            ..ExportMeta::default()
+        };
+        let c = m.csv_comments();
+        assert!(c.lines().all(|l| l.starts_with("# ")));
+        assert!(c.contains("# title: a b\n") && c.contains("# grid: 1x3\n"));
+    }
+}

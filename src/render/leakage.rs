@@ -1,0 +1,125 @@
+//! The data of the leakage chart: for every output of a checked cycle, |F(b)| of each term of
+//! its rejection set (the same set the exact checker uses), its order sum |b|, whether F is
+//! exactly zero (cyclotomic arithmetic) or only numerically, and the kept terms. Rendering is
+//! [`super::leakage_svg`]'s job.
+
+use crate::check::{bind_cycle, rejected, CheckError, CheckRequest, Evaluator, Origin};
+use crate::cycle::Cycle;
+use crate::model::Experiment;
+use crate::signature::Signature;
+
+/// What a plotted term is.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum TermKind {
+    /// Wanted by this output.
+    Wanted,
+    /// In the rejection set (agnostic, pathway, or kept by another output).
+    Rejected,
+    /// The conjugate of a wanted term (real detection).
+    Conjugate,
+}
+
+/// One plotted term.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TermPoint {
+    /// The signature over the experiment's fields.
+    pub signature: Signature,
+    /// `sum |b|`.
+    pub order: i64,
+    /// |F(b)|.
+    pub abs: f64,
+    /// True when F(b) = 0 was decided exactly.
+    pub exact_zero: bool,
+    /// True when F(b) counts as zero (exactly, or within the numeric bound).
+    pub zero: bool,
+    /// What the term is.
+    pub kind: TermKind,
+}
+
+/// One output's series.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LeakageSeries {
+    /// Output name.
+    pub name: String,
+    /// True when the evaluation was exact.
+    pub exact: bool,
+    /// The terms, wanted first, then by order and |F|.
+    pub terms: Vec<TermPoint>,
+}
+
+/// The chart's data.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LeakageChart {
+    /// Experiment title.
+    pub title: String,
+    /// Number of steps.
+    pub steps: usize,
+    /// Order K of the rejection set.
+    pub order: u32,
+    /// One series per output.
+    pub series: Vec<LeakageSeries>,
+}
+
+/// Evaluate every rejected and wanted term of every output (the checker's request `req`
+/// decides the order and the rejection set).
+///
+/// # Errors
+/// [`CheckError`] as from [`crate::check::check_cycle`].
+pub fn leakage_chart(
+    exp: &Experiment,
+    cycle: &Cycle,
+    req: &CheckRequest,
+) -> Result<LeakageChart, CheckError> {
+    let k = req.order.unwrap_or(exp.order);
+    let bound = bind_cycle(exp, cycle, &req.snap)?;
+    let mut series = Vec::new();
+    for (oi, out) in bound.outputs.iter().enumerate() {
+        let ev = Evaluator::new(&bound, out)?;
+        let set = rejected::rejection_set(exp, &bound, oi, k, &req.source)?;
+        let mut terms = Vec::with_capacity(set.len() + out.kept.len());
+        for t in &out.kept {
+            terms.push(point(&ev, t, TermKind::Wanted)?);
+        }
+        for (b, origin) in &set {
+            let kind = if *origin == Origin::Conjugate {
+                TermKind::Conjugate
+            } else {
+                TermKind::Rejected
+            };
+            terms.push(point(&ev, b, kind)?);
+        }
+        terms.sort_by(|a, b| {
+            (a.kind != TermKind::Wanted)
+                .cmp(&(b.kind != TermKind::Wanted))
+                .then(a.order.cmp(&b.order))
+                .then(b.abs.total_cmp(&a.abs))
+        });
+        series.push(LeakageSeries {
+            name: out.name.clone(),
+            exact: ev.is_exact(),
+            terms,
+        });
+    }
+    Ok(LeakageChart {
+        title: exp.title.clone(),
+        steps: cycle.len(),
+        order: k,
+        series,
+    })
+}
+
+fn point(ev: &Evaluator, b: &Signature, kind: TermKind) -> Result<TermPoint, CheckError> {
+    let zero = ev.is_zero(&b.0)?;
+    Ok(TermPoint {
+        signature: b.clone(),
+        order: b.weight(),
+        abs: if zero && ev.is_exact() {
+            0.0
+        } else {
+            ev.approx(&b.0).norm()
+        },
+        exact_zero: zero && ev.is_exact(),
+        zero,
+        kind,
+    })
+}
