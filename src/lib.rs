@@ -31,6 +31,7 @@
 
 pub mod agnostic;
 pub mod cycle;
+pub mod design_beyond;
 pub mod error;
 pub mod exact;
 pub mod experiment_file;
