@@ -1,8 +1,8 @@
 //! Smallest phase cycles **beyond lattice designs**: exhaustive search over all step sets of
 //! `N` grid points with free complex weights, for `N = 1, 2, ..`, with exact certificates.
 //! This module owns the search driver, its problem and outcome types and its limits; the
-//! exact pieces live in [`ring`] (root-of-unity determinants), [`galois`] (automorphisms and
-//! exact inverses), the float triage in [`numeric`] and the per-step-set decision in
+//! exact pieces live in `ring` (root-of-unity determinants), [`galois`] (automorphisms and
+//! exact inverses), the float triage in `numeric` and the per-step-set decision in
 //! `subset`.
 //!
 //! # The question for one step set
@@ -44,7 +44,7 @@
 
 pub mod galois;
 pub(crate) mod numeric;
-pub mod ring;
+pub(crate) mod ring;
 mod subset;
 #[cfg(test)]
 mod tests;

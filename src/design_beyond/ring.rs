@@ -3,7 +3,7 @@
 //! formula, a signed sum of `N!` powers of `zeta_L`, i.e. an integer polynomial modulo
 //! `x^L - 1` (a vector of `L` integer coefficients). Such a polynomial is zero at `zeta_L`
 //! iff it is divisible by the cyclotomic polynomial `Phi_L` (the minimal polynomial of
-//! `zeta_L`), which [`is_zero_at_zeta`] tests exactly.
+//! `zeta_L`), which `is_zero_at_zeta` tests exactly.
 
 use num_bigint::BigInt;
 

@@ -282,7 +282,10 @@ proptest! {
             }
             Err(e) => prop_assert!(false, "unexpected error {e}"),
             Ok(out) => {
+                // Every infeasible step set of these small problems gets an exact certificate.
                 prop_assert_eq!(out.undecided, 0);
+                prop_assert_eq!(out.numerically_decided, 0);
+                prop_assert!(out.exact_certificate);
                 match &out.design {
                     Some(d) => {
                         assert_float_valid(&p, d);
@@ -295,5 +298,60 @@ proptest! {
                 }
             }
         }
+    }
+}
+
+/// Manual timing check (`cargo test --lib design_beyond::tests::timing -- --ignored
+/// --nocapture`): three pump fields on a 4x4x4 grid, rephasing kept, every other signature
+/// in {-1, 0, 1}^3 rejected. Not part of the fast suite.
+#[test]
+#[ignore]
+fn timing_on_a_larger_grid() {
+    let t = [-1i64, 1, 1];
+    let mut rej: Vec<Vec<i64>> = Vec::new();
+    for b in (0..3).map(|_| -1i64..=1).multi_cartesian_product() {
+        if b != t {
+            rej.push(b);
+        }
+    }
+    for max in [3usize, 4, 5] {
+        let p = BeyondProblem {
+            dims: 3,
+            grid: vec![4, 4, 4],
+            outputs: vec![("R".into(), t.to_vec())],
+            rejected: rej.clone(),
+            max_steps: max,
+            time_budget: Duration::from_secs(600),
+        };
+        let start = Instant::now();
+        let out = run(&p);
+        eprintln!(
+            "max_steps {max}: {:?} design {:?} exhaustive {} exact {} tested {} numerical {}",
+            start.elapsed(),
+            out.design.as_ref().map(|d| d.n),
+            out.exhaustive_up_to,
+            out.exact_certificate,
+            out.subsets_tested,
+            out.numerically_decided
+        );
+    }
+}
+
+/// Manual timing check of the exact inverse at large orders (ignored in the fast suite).
+#[test]
+#[ignore]
+fn timing_of_exact_inverse() {
+    use crate::exact::Q;
+    for n in [24u32, 120, 552, 840] {
+        let c: Vec<Q> = [1i64, 1, 0, -2, 0, 1, 3]
+            .iter()
+            .map(|x| Q::from_integer((*x).into()))
+            .collect();
+        let a = Cyclo::from_coeffs(n, &c).unwrap();
+        let start = Instant::now();
+        let inv = galois::inverse(&a).unwrap();
+        let el = start.elapsed();
+        assert_eq!(a.mul(&inv).unwrap(), Cyclo::one(n).unwrap());
+        eprintln!("order {n}: inverse in {el:?}");
     }
 }
