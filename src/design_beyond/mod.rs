@@ -374,8 +374,9 @@ fn prepare(p: &BeyondProblem) -> Result<Ctx, BeyondError> {
         let others = p.outputs.iter().enumerate().filter(|(k, _)| *k != o);
         let mut rows: Vec<Vec<i64>> = Vec::new();
         for b in p.rejected.iter().chain(others.map(|(_, (_, t2))| t2)) {
-            let d: Vec<i64> = b.iter().zip(t).map(|(x, y)| x.saturating_sub(*y)).collect();
-            let d = reduce(&d);
+            // Reduce before subtracting: no overflow for any i64 input.
+            let (rb, rt) = (reduce(b), reduce(t));
+            let d = reduce(&rb.iter().zip(&rt).map(|(x, y)| x - y).collect::<Vec<_>>());
             if d.iter().all(|x| *x == 0) {
                 return Err(BeyondError::Inseparable {
                     output: name.clone(),
