@@ -33,6 +33,7 @@ pub mod agnostic;
 pub mod check;
 pub mod cycle;
 pub mod design;
+pub mod design_beyond;
 pub mod error;
 pub mod exact;
 pub mod experiment_file;
