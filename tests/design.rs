@@ -157,7 +157,7 @@ proptest! {
     #[test]
     fn every_design_passes_the_exact_checker_and_no_smaller_lattice_exists((text, grid) in random_case()) {
         let e = exp(&text);
-        let req = DesignRequest { grid: (grid > 0).then(|| vec![grid]), max_steps: 200, ..DesignRequest::default() };
+        let req = DesignRequest { grid: (grid > 0).then(|| vec![grid]), max_steps: 200, beyond_budget: std::time::Duration::from_millis(200), ..DesignRequest::default() };
         let r = run(&e, &req);
         if let Some(n) = r.steps {
             assert_passes_checker(&e, &r, CheckSource::Agnostic { geometry: None });
@@ -174,4 +174,55 @@ proptest! {
             prop_assert!(!r.impossible.is_empty() || r.excluded_below > 0);
         }
     }
+}
+
+#[test]
+fn a_weighted_step_set_beats_every_lattice_when_only_the_two_quantum_pump_term_must_go() {
+    // domain.md section 6: to cancel b = 2 (and its conjugate -2) but keep b = 0 on one field,
+    // steps {0, 1/4 turn} with weights (1/2, 1/2) work, while every lattice design on the
+    // 4-step grid needs 4 steps (c must divide 4 but not 2).
+    use pathsieve::plan::beyond::{search_below, weighted_cycle};
+    let e = read_experiment(&common::scheme("single-pump-probe.toml")).unwrap();
+    let req = DesignRequest {
+        grid: Some(vec![4]),
+        ..DesignRequest::default()
+    };
+    let mut prep = prepare(&e, &req).unwrap();
+    prep.problem.rejected = vec![vec![2], vec![-2]];
+    let cancel = AtomicBool::new(false);
+    let lattice = pathsieve::design::Lattice::from_generators(1, &[vec![4]]).unwrap();
+    let (summary, found) = search_below(
+        &prep,
+        &lattice,
+        4,
+        std::time::Duration::from_secs(5),
+        3,
+        &cancel,
+    )
+    .unwrap();
+    let d = found.expect("a weighted design");
+    assert_eq!(d.n, 2);
+    assert_eq!(summary.exhaustive_up_to, 1);
+    assert!(summary.exact_certificate);
+    let cycle = weighted_cycle(&e, &prep, &d, Default::default());
+    let f = |b: i64| -> num_complex::Complex64 {
+        cycle
+            .steps
+            .iter()
+            .zip(&cycle.outputs[0].weights)
+            .map(|(s, w)| {
+                w.to_complex()
+                    * num_complex::Complex64::from_polar(
+                        1.0,
+                        2.0 * std::f64::consts::PI * b as f64 * s[0].turns_f64(),
+                    )
+            })
+            .sum()
+    };
+    assert!((f(0) - 1.0).norm() < 1e-12);
+    assert!(f(2).norm() < 1e-12 && f(-2).norm() < 1e-12);
+    assert!(
+        (summary.noise_efficiency.unwrap() - 1.0).abs() < 1e-12,
+        "equal weights 1/2: efficiency 1"
+    );
 }

@@ -3,6 +3,7 @@
 //! ([`crate::design`]), chooses among equal-length designs and orders the steps ([`choose`]),
 //! compares with the nested and cogwheel cycles ([`compare`]) and builds the cycle ([`to_cycle`]).
 
+pub mod beyond;
 pub mod choose;
 pub mod compare;
 mod prepare;

@@ -2,6 +2,7 @@
 //! choice among equal-length designs, the step order, the yardsticks (nested, cogwheel), the
 //! first leak order and a one-paragraph summary.
 
+use super::beyond::{search_below, weighted_cycle, BeyondSummary};
 use super::choose::{order_for_drift, pick, score};
 use super::compare::{first_leak_order, min_cogwheel, CogwheelScan};
 use super::to_cycle::lattice_cycle;
@@ -33,6 +34,11 @@ pub enum DesignKind {
     Lattice {
         /// Basis rows.
         basis: Vec<Vec<i64>>,
+    },
+    /// A weighted step set that is not a lattice design (unequal weights).
+    Weighted {
+        /// Steps.
+        steps: usize,
     },
 }
 
@@ -89,6 +95,10 @@ pub struct DesignReport {
     pub first_leak_searched_to: u32,
     /// Noise efficiency `|F(t)| / sqrt(N sum |w|^2)`: 1 for unit-modulus weights.
     pub noise_efficiency: f64,
+    /// The search over weighted non-lattice step sets below the lattice optimum.
+    pub beyond: Option<BeyondSummary>,
+    /// The lattice optimum when a shorter weighted design replaced it.
+    pub lattice_steps: Option<u64>,
     /// Why no design is possible, if so.
     pub impossible: Vec<Impossibility>,
     /// True when the search was interrupted (the design is then not proven minimal).
@@ -150,6 +160,8 @@ pub fn design(
         first_leak_order: None,
         first_leak_searched_to: 0,
         noise_efficiency: 0.0,
+        beyond: None,
+        lattice_steps: None,
         impossible: prep.impossible.clone(),
         cancelled: false,
         seconds: 0.0,
@@ -322,6 +334,47 @@ pub fn design(
     );
     let bound = d.nested_bound.unwrap_or(d.steps * 4).max(d.steps);
     report.cogwheel = Some(min_cogwheel(&prep.problem, bound, 5_000_000));
+
+    // Beyond lattices: is there a shorter weighted step set on the grid?
+    if d.proven_minimal {
+        if let Some((summary, found)) = search_below(
+            &prep,
+            &lattice,
+            d.steps,
+            req.beyond_budget,
+            req.beyond_max_steps,
+            ctl.cancel,
+        ) {
+            if let Some(w) = found {
+                let meta = CycleMeta {
+                    title: Some(format!("{} — designed cycle (weighted)", exp.title)),
+                    grid: None,
+                    made_by: Some(format!(
+                        "pathsieve {} design (weighted non-lattice search)",
+                        env!("CARGO_PKG_VERSION")
+                    )),
+                    experiment: Some(exp.title.clone()),
+                    notes: vec![summary.note.clone()],
+                };
+                let cycle = weighted_cycle(exp, &prep, &w, meta);
+                let check_req = crate::check::CheckRequest {
+                    order: Some(order),
+                    ..crate::check::CheckRequest::default()
+                };
+                report.first_leak_order = crate::check::check_cycle(exp, &cycle, &check_req)
+                    .ok()
+                    .and_then(|c| c.first_leak_order);
+                report.lattice_steps = Some(d.steps);
+                report.steps = Some(w.n as u64);
+                report.kind = Some(DesignKind::Weighted { steps: w.n });
+                report.noise_efficiency = summary.noise_efficiency.unwrap_or(0.0);
+                report.choice_rule = "a weighted step set shorter than every lattice design wins on length (its weights are not unit-modulus)".into();
+                report.step_order = "as found by the weighted search".into();
+                report.cycle = Some(cycle);
+            }
+            report.beyond = Some(summary);
+        }
+    }
     report.seconds = start.elapsed().as_secs_f64();
     report.summary = summary_text(&report);
     Ok(report)
@@ -349,6 +402,11 @@ fn summary_text(r: &DesignReport) -> String {
         Some(DesignKind::Lattice { .. }) => {
             "a lattice cycle that is neither nested nor cogwheel".into()
         }
+        Some(DesignKind::Weighted { .. }) => format!(
+            "a weighted non-lattice step set (shorter than the {}-step lattice optimum; noise efficiency {:.3})",
+            r.lattice_steps.unwrap_or(0),
+            r.noise_efficiency
+        ),
         None => String::new(),
     };
     let nested = match r.nested_steps {
@@ -369,13 +427,24 @@ fn summary_text(r: &DesignReport) -> String {
             r.first_leak_searched_to
         ),
     };
-    let proof = if r.proven_minimal {
+    let proof = if let (Some(DesignKind::Weighted { steps }), Some(b)) = (&r.kind, &r.beyond) {
+        format!(
+            " Minimality: every lattice design needs at least {} steps (proven by the lattice search), and every weighted step set with fewer than {steps} steps on the grid {:?} fails ({}).",
+            r.lattice_steps.unwrap_or(0),
+            b.grid,
+            if b.exact_certificate { "exhaustive search, exact certificate" } else { "exhaustive search, partly numerical certificate" }
+        )
+    } else if r.proven_minimal {
         " Minimality is proven among lattice designs (nested and cogwheel cycles included): every lattice design with fewer steps was tested and fails; weighted non-lattice step sets are a separate class.".to_string()
     } else {
         format!(" The search was interrupted: this design is NOT proven minimal; no lattice design has fewer than {} steps.", r.excluded_below)
     };
+    let beyond = match &r.beyond {
+        Some(b) => format!(" Beyond lattices: {}.", b.note),
+        None => String::new(),
+    };
     format!(
-        "{n} steps: {kind} cycling {} that keeps {} and cancels all {} {} terms through order {} (exact).{nested}{cog}{leak}{proof}",
+        "{n} steps: {kind} cycling {} that keeps {} and cancels all {} {} terms through order {} (exact).{nested}{cog}{leak}{proof}{beyond}",
         r.cycled_fields.join(", "),
         r.kept
             .iter()
