@@ -7,7 +7,7 @@
 
 use num_bigint::BigInt;
 
-use crate::exact::cyclotomic::cyclotomic_cached;
+use crate::exact::cyclotomic::{cyclotomic_cached, monic_low_terms, reduced_is_zero};
 use crate::exact::{Cyclo, ExactError};
 
 /// An element of `Z[x]/(x^L - 1)`: `coeffs[k]` multiplies `x^k`, `coeffs.len() == L`.
@@ -65,33 +65,12 @@ pub(crate) fn is_zero_at_zeta(p: &[i64], l: u32) -> Result<bool, ExactError> {
         return Ok(true);
     }
     let phi = cyclotomic_cached(l)?;
-    let d = phi.len() - 1;
-    let low: Vec<(usize, i128)> = phi[..d]
-        .iter()
-        .enumerate()
-        .filter(|(_, c)| **c != 0)
-        .map(|(k, c)| (k, *c as i128))
-        .collect();
-    let mut acc: Vec<i128> = p.iter().map(|c| *c as i128).collect();
-    let mut i = acc.len();
-    while i > d {
-        i -= 1;
-        let c = acc[i];
-        if c == 0 {
-            continue;
-        }
-        acc[i] = 0;
-        for &(k, pk) in &low {
-            match c
-                .checked_mul(pk)
-                .and_then(|t| acc[i - d + k].checked_sub(t))
-            {
-                Some(v) => acc[i - d + k] = v,
-                None => return Ok(to_cyclo(p, l)?.is_zero()),
-            }
-        }
+    let (d, low) = monic_low_terms(&phi);
+    let mut acc: Vec<i128> = p.iter().map(|c| i128::from(*c)).collect();
+    match reduced_is_zero(&mut acc, d, &low) {
+        Some(zero) => Ok(zero),
+        None => Ok(to_cyclo(p, l)?.is_zero()),
     }
-    Ok(acc[..d.min(acc.len())].iter().all(|c| *c == 0))
 }
 
 /// The value `p(zeta_L)` as an exact element of `Q(zeta_L)`.

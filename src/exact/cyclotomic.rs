@@ -120,6 +120,41 @@ fn exact_div_monic(a: &[i128], b: &[i128]) -> Result<Vec<i128>, ExactError> {
     Ok(q)
 }
 
+/// The degree of a monic cyclotomic polynomial (coefficients low to high) and its nonzero
+/// coefficients below the leading one, as `(power, coefficient)` pairs for fast reduction.
+pub fn monic_low_terms(phi: &[i64]) -> (usize, Vec<(usize, i128)>) {
+    let d = phi.len().saturating_sub(1);
+    let low = phi[..d]
+        .iter()
+        .enumerate()
+        .filter(|(_, c)| **c != 0)
+        .map(|(k, c)| (k, i128::from(*c)))
+        .collect();
+    (d, low)
+}
+
+/// Reduce the integer polynomial `acc` (low to high) modulo the monic polynomial of degree
+/// `deg` with low terms `low` (see [`monic_low_terms`]), in place and in checked `i128`.
+/// Returns whether the remainder is zero, or `None` if an intermediate value overflowed (the
+/// caller then redoes the test with big integers).
+pub fn reduced_is_zero(acc: &mut [i128], deg: usize, low: &[(usize, i128)]) -> Option<bool> {
+    let mut i = acc.len();
+    while i > deg {
+        i -= 1;
+        let c = acc[i];
+        if c == 0 {
+            continue;
+        }
+        acc[i] = 0;
+        for &(k, pk) in low {
+            acc[i - deg + k] = c
+                .checked_mul(pk)
+                .and_then(|t| acc[i - deg + k].checked_sub(t))?;
+        }
+    }
+    Some(acc[..deg.min(acc.len())].iter().all(|c| *c == 0))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -12,7 +12,7 @@ use num_integer::Integer;
 use num_traits::{One, ToPrimitive, Zero};
 
 use super::cyclo::Cyclo;
-use super::cyclotomic::{cyclotomic_cached, euler_phi};
+use super::cyclotomic::{cyclotomic_cached, euler_phi, monic_low_terms, reduced_is_zero};
 use super::turns::{common_denominator, reduce_turn, Turns};
 use super::{check_order, lcm_order, ExactError};
 
@@ -105,13 +105,7 @@ impl ExactFilter {
             None => general_form(&lifted)?,
         };
         let phi = cyclotomic_cached(order)?;
-        let phi_deg = phi.len() - 1;
-        let phi_low = phi[..phi_deg]
-            .iter()
-            .enumerate()
-            .filter(|(_, c)| **c != 0)
-            .map(|(k, c)| (k, *c as i128))
-            .collect();
+        let (phi_deg, phi_low) = monic_low_terms(&phi);
         debug_assert_eq!(phi_deg as u32, euler_phi(order));
         Ok(ExactFilter {
             order,
@@ -201,26 +195,10 @@ impl ExactFilter {
             return Ok(true);
         }
         // Reduce modulo Phi_L' in checked i128; on overflow redo it with big integers.
-        let d = self.phi_deg;
-        let mut i = acc.len();
-        while i > d {
-            i -= 1;
-            let c = acc[i];
-            if c == 0 {
-                continue;
-            }
-            acc[i] = 0;
-            for &(k, pk) in &self.phi_low {
-                let t = c
-                    .checked_mul(pk)
-                    .and_then(|t| acc[i - d + k].checked_sub(t));
-                match t {
-                    Some(v) => acc[i - d + k] = v,
-                    None => return Ok(self.eval(b)?.is_zero()),
-                }
-            }
+        match reduced_is_zero(acc, self.phi_deg, &self.phi_low) {
+            Some(zero) => Ok(zero),
+            None => Ok(self.eval(b)?.is_zero()),
         }
-        Ok(acc[..d].iter().all(|c| *c == 0))
     }
 
     /// Exact test `F(b) == 0` with a per-thread buffer (safe to call from rayon workers).
