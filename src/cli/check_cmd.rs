@@ -2,7 +2,7 @@
 //! flags into a [`CheckRequest`], calls the library and renders the report as tables or JSON.
 //! Exit code 0 when clean through the order, 1 when anything leaks.
 
-use super::output::{print, print_json, table};
+use super::output::{print, print_json, table, RejectionArgs};
 use anyhow::{bail, Context};
 use clap::Args;
 use pathsieve::check::{
@@ -21,16 +21,8 @@ pub struct CheckArgs {
     experiment: PathBuf,
     /// Cycle table: a TOML cycle file or a CSV table (docs/cycle-format.md).
     cycle: PathBuf,
-    /// Order K of the rejection set (default: the experiment's order).
-    #[arg(long, value_name = "K")]
-    order: Option<u32>,
-    /// Reject the enumerated pathways through K (and their conjugates) instead of the
-    /// agnostic set.
-    #[arg(long)]
-    from_pathways: bool,
-    /// Do not drop coherent terms the beam geometry fails to phase-match.
-    #[arg(long)]
-    no_geometry: bool,
+    #[command(flatten)]
+    rejection: RejectionArgs,
     /// Search the first leak up to this order (default: order + 4).
     #[arg(long, value_name = "K")]
     leak_search: Option<u32>,
@@ -108,12 +100,12 @@ fn request(a: &CheckArgs) -> anyhow::Result<CheckRequest> {
         }
     };
     Ok(CheckRequest {
-        order: a.order,
-        source: if a.from_pathways {
+        order: a.rejection.order,
+        source: if a.rejection.from_pathways {
             RejectionSource::FromPathways
         } else {
             RejectionSource::Agnostic {
-                geometry: a.no_geometry.then_some(false),
+                geometry: a.rejection.no_geometry.then_some(false),
             }
         },
         leak_search_to: a.leak_search,

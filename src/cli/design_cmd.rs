@@ -1,7 +1,7 @@
 //! `pathsieve design`: the smallest phase cycle for an experiment, with its proof of
 //! minimality, a step table, a summary paragraph, JSON, and the cycle file the checker reads.
 
-use super::output::{print, print_json, table};
+use super::output::{print, print_json, table, RejectionArgs};
 use anyhow::bail;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
@@ -21,15 +21,8 @@ static CANCEL: AtomicBool = AtomicBool::new(false);
 pub struct DesignArgs {
     /// Experiment file with the wanted signals as `[[signal]]` tables.
     file: PathBuf,
-    /// Cancel every other term through this order (default: the experiment's order).
-    #[arg(long, value_name = "K")]
-    order: Option<u32>,
-    /// Cancel the enumerated pathways of the level scheme instead of the agnostic set.
-    #[arg(long)]
-    from_pathways: bool,
-    /// Ignore the beam geometry (cancel terms even when they are not phase matched).
-    #[arg(long)]
-    no_geometry: bool,
+    #[command(flatten)]
+    rejection: RejectionArgs,
     /// Phase grid in steps per turn: one value for all fields or one per field (`8` or
     /// `1,8,8,8`); 0 = any rational phase (default).
     #[arg(long, value_name = "M[,M...]", value_delimiter = ',')]
@@ -70,13 +63,13 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         }
     }
     let req = DesignRequest {
-        order: a.order,
-        rejection: if a.from_pathways {
+        order: a.rejection.order,
+        rejection: if a.rejection.from_pathways {
             RejectionSource::Pathways
         } else {
             RejectionSource::Agnostic
         },
-        geometry: !a.no_geometry,
+        geometry: !a.rejection.no_geometry,
         grid: a.grid.clone(),
         max_steps: a.max_steps,
         max_phases_per_field: a.max_phases,

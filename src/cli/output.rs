@@ -1,6 +1,7 @@
 //! Shared output helpers for the subcommands: stdout writing, JSON, tables, file output.
 
 use anyhow::Context;
+use clap::Args;
 use comfy_table::{presets::UTF8_FULL_CONDENSED, ContentArrangement, Table};
 use std::io::Write;
 use std::path::Path;
@@ -42,4 +43,18 @@ pub fn write_file(path: &Path, bytes: &[u8]) -> anyhow::Result<()> {
     tmp.persist(path)
         .with_context(|| format!("cannot create {}", path.display()))?;
     Ok(())
+}
+
+/// Which terms a cycle must cancel: shared by `design` and `check`.
+#[derive(Args, Debug)]
+pub struct RejectionArgs {
+    /// Cancel every other term through this order K (default: the experiment's order).
+    #[arg(long, value_name = "K")]
+    pub order: Option<u32>,
+    /// Use the enumerated pathways through K (and their conjugates) instead of the agnostic set.
+    #[arg(long)]
+    pub from_pathways: bool,
+    /// Ignore the beam geometry: also cancel coherent terms that are not phase matched.
+    #[arg(long)]
+    pub no_geometry: bool,
 }
