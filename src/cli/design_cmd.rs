@@ -81,18 +81,10 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         ProgressStyle::with_template("{spinner} {elapsed} {msg}")
             .unwrap_or_else(|_| ProgressStyle::default_spinner()),
     );
-    let started = Instant::now();
-    let shown = AtomicBool::new(false);
+    bar.set_message("searching (Ctrl-C: best so far)");
     let progress = |p: Progress| {
-        if !a.json
-            && started.elapsed() > Duration::from_secs(1)
-            && !shown.swap(true, Ordering::SeqCst)
-        {
-            bar.set_draw_target(ProgressDrawTarget::stderr());
-            bar.enable_steady_tick(Duration::from_millis(120));
-        }
         bar.set_message(format!(
-            "scanning {} steps ({} candidates tested; Ctrl-C returns the best so far)",
+            "designs of >= {} steps, {} tested (Ctrl-C: best so far)",
             p.index, p.lattices_tested
         ));
     };
@@ -100,7 +92,26 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         cancel: &CANCEL,
         progress: Some(&progress),
     };
-    let report = design(&exp, &req, &ctl)?;
+    // The progress line appears only when the search runs longer than a second.
+    let done = AtomicBool::new(false);
+    let report = std::thread::scope(|scope| {
+        if !a.json {
+            scope.spawn(|| {
+                let started = Instant::now();
+                while !done.load(Ordering::SeqCst) {
+                    if started.elapsed() > Duration::from_secs(1) {
+                        bar.set_draw_target(ProgressDrawTarget::stderr());
+                        bar.enable_steady_tick(Duration::from_millis(120));
+                        break;
+                    }
+                    std::thread::sleep(Duration::from_millis(20));
+                }
+            });
+        }
+        let r = design(&exp, &req, &ctl);
+        done.store(true, Ordering::SeqCst);
+        r
+    })?;
     bar.finish_and_clear();
     let code = if report.steps.is_some() { 0 } else { 1 };
     if let (Some(path), Some(cycle)) = (&a.out, &report.cycle) {
