@@ -143,3 +143,26 @@ fn a_missing_file_is_an_input_error() {
     assert_eq!(code, 2);
     assert!(err.contains("/no/such/file.toml"));
 }
+
+#[test]
+fn an_enumeration_that_would_run_for_hours_is_refused_before_work() {
+    // Eleven pulses, eleventh order, ten states in four manifolds: billions of candidates.
+    let mut text = String::from("order = 11\n[detection]\nmode = \"emission\"\n");
+    for j in 1..=11 {
+        text.push_str(&format!("[[field]]\nname = \"p{j}\"\n"));
+    }
+    text.push_str("[[field]]\nname = \"LO\"\nkind = \"lo\"\n[levels]\nstates = [{ name = \"g\", manifold = 0 }");
+    for (m, p) in [(1, "e"), (2, "f"), (3, "h")] {
+        for k in 1..=3 {
+            text.push_str(&format!(", {{ name = \"{p}{k}\", manifold = {m} }}"));
+        }
+    }
+    text.push_str("]\n");
+    let dir = tempfile::tempdir().unwrap();
+    let f = write(dir.path(), "big.toml", text.as_bytes());
+    let started = std::time::Instant::now();
+    let (code, _, err) = run(&["pathways", &f, "--all", "--summary"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("above the limit"), "{err}");
+    assert!(started.elapsed().as_secs() < 10, "refused up front");
+}

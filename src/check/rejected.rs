@@ -102,6 +102,7 @@ pub fn rejection_set(
             }
         }
         RejectionSource::FromPathways => {
+            crate::pathways::check_size(exp, Scope::Through(k))?;
             let mut sigs = Vec::new();
             let mut count = 0u64;
             for_each_pathway(exp, Scope::Through(k), |p| {

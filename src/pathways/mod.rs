@@ -5,10 +5,12 @@ mod classify;
 mod enumerate;
 mod nmr;
 mod resolve;
+mod size;
 mod summary;
 
 pub use enumerate::{count_pathways, for_each_pathway, Scope};
 pub use resolve::{coherence_signature, resolve_signals, Contamination, ResolvedSignal};
+pub use size::{check_size, pathway_bound, MAX_VISITED_PATHWAYS};
 pub use summary::{needs_conjugate_rows, summarize, SignatureSummary, Summary};
 
 use crate::model::{PathwayClass, PopulationClass};

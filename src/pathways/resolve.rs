@@ -37,6 +37,7 @@ pub struct ResolvedSignal {
 
 /// Resolve every wanted signal of the experiment.
 pub fn resolve_signals(exp: &Experiment) -> Result<Vec<ResolvedSignal>, ModelError> {
+    super::check_size(exp, Scope::Signal)?;
     // One pass over the signal pathways: which signatures carry which classes.
     let mut carried: BTreeMap<Signature, BTreeMap<PathwayClass, u64>> = BTreeMap::new();
     for_each_pathway(exp, Scope::Signal, |p| {
