@@ -265,6 +265,21 @@ pub fn check_cycle(
     }
     let bound = bind_cycle(exp, cycle, &req.snap)?;
     let mut notes = bound.notes.clone();
+    // NMR: every detected term carries the receiver, so the optical agnostic set (which holds
+    // b = 0 and misses high coherence jumps) does not apply; use the coherence pathways.
+    let nmr_req;
+    let req = if matches!(exp.detection, crate::model::Detection::Nmr { .. })
+        && matches!(req.source, RejectionSource::Agnostic { .. })
+    {
+        notes.push("NMR detection: the rejection set is every coherence-transfer pathway of the spin system (as --from-pathways); the optical agnostic set does not apply".into());
+        nmr_req = CheckRequest {
+            source: RejectionSource::FromPathways,
+            ..req.clone()
+        };
+        &nmr_req
+    } else {
+        req
+    };
     let geometry = req.source.geometry(exp);
     let (search_to, search_note) = first_leak::search_bound(exp, k, req.leak_search_to)?;
     notes.extend(search_note);

@@ -25,6 +25,8 @@ pub struct Prepared {
     pub rejected: Vec<Signature>,
     /// Requests that no phase cycle can meet.
     pub impossible: Vec<Impossibility>,
+    /// The rejection set actually used (NMR always uses the coherence pathways).
+    pub source: RejectionSource,
 }
 
 /// Restrict a signature to the given fields.
@@ -40,7 +42,13 @@ pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanEr
     }
     let wanted: Vec<Signature> = outputs.iter().flat_map(|o| o.kept.clone()).collect();
     let order = req.order.unwrap_or(exp.order);
-    let rejected: Vec<Signature> = match req.rejection {
+    // NMR: the optical agnostic set does not apply (every term carries the receiver).
+    let source = if matches!(exp.detection, Detection::Nmr { .. }) {
+        RejectionSource::Pathways
+    } else {
+        req.rejection
+    };
+    let rejected: Vec<Signature> = match source {
         RejectionSource::Agnostic => agnostic_set(exp, order, &wanted, req.geometry)?,
         RejectionSource::Pathways => {
             let mut set = BTreeSet::new();
@@ -153,6 +161,7 @@ pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanEr
         outputs,
         rejected,
         impossible,
+        source,
     })
 }
 

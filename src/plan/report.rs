@@ -93,6 +93,8 @@ pub struct DesignReport {
     pub first_leak_order: Option<u32>,
     /// Orders searched for the first leak.
     pub first_leak_searched_to: u32,
+    /// True for NMR detection (first leak counted in coherence level, not order).
+    pub detection_nmr: bool,
     /// Noise efficiency `|F(t)| / sqrt(N sum |w|^2)`: 1 for unit-modulus weights.
     pub noise_efficiency: f64,
     /// The search over weighted non-lattice step sets below the lattice optimum.
@@ -137,7 +139,7 @@ pub fn design(
             .collect(),
         global_phase_field: prep.fixed_by_global_phase.map(name),
         order,
-        rejection: req.rejection,
+        rejection: prep.source,
         rejected_terms: prep.rejected.len(),
         grid: prep.problem.grid.clone(),
         outputs: outputs.clone(),
@@ -159,6 +161,7 @@ pub fn design(
         drift_moment_ordered: 0.0,
         first_leak_order: None,
         first_leak_searched_to: 0,
+        detection_nmr: matches!(exp.detection, crate::model::Detection::Nmr { .. }),
         noise_efficiency: 0.0,
         beyond: None,
         lattice_steps: None,
@@ -323,15 +326,24 @@ pub fn design(
     let kept: Vec<Vec<Signature>> = prep.outputs.iter().map(|o| o.kept.clone()).collect();
     let to = (order + 4).min(crate::limits::MAX_ORDER);
     report.first_leak_searched_to = to;
-    report.first_leak_order = first_leak_order(
-        exp,
-        &prep.cycled,
-        &kept,
-        &lattice,
-        order + 1,
-        to,
-        req.geometry,
-    );
+    report.first_leak_order = if matches!(exp.detection, crate::model::Detection::Nmr { .. }) {
+        // NMR: leaks appear at higher coherence levels, not orders; let the checker say.
+        report.cycle.as_ref().and_then(|c| {
+            crate::check::check_cycle(exp, c, &crate::check::CheckRequest::default())
+                .ok()
+                .and_then(|r| r.first_leak_order)
+        })
+    } else {
+        first_leak_order(
+            exp,
+            &prep.cycled,
+            &kept,
+            &lattice,
+            order + 1,
+            to,
+            req.geometry,
+        )
+    };
     let bound = d.nested_bound.unwrap_or(d.steps * 4).max(d.steps);
     report.cogwheel = Some(min_cogwheel(&prep.problem, bound, 5_000_000));
 
@@ -420,8 +432,12 @@ fn summary_text(r: &DesignReport) -> String {
         Some(c) => format!(" No cogwheel cycle with at most {} steps exists.", c.excluded_below.saturating_sub(1)),
         None => String::new(),
     };
+    let nmr =
+        r.rejection == RejectionSource::Pathways && r.first_leak_searched_to > 0 && r.detection_nmr;
     let leak = match r.first_leak_order {
+        Some(k) if nmr => format!(" It first leaks when the spin system allows coherence level |p| = {k} (enumerated pathways)."),
         Some(k) => format!(" It first leaks at order {k} (agnostic set)."),
+        None if nmr => " It stays clean for every coherence level checked.".to_string(),
         None => format!(
             " It stays clean through order {} (agnostic set, the highest order checked).",
             r.first_leak_searched_to
