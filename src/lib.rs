@@ -30,6 +30,7 @@
 #![deny(missing_docs)]
 
 pub mod agnostic;
+pub mod caveats;
 pub mod check;
 pub mod cycle;
 pub mod design;

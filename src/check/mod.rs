@@ -280,6 +280,13 @@ pub fn check_cycle(
     } else {
         req
     };
+    if let Ok(resolved) = crate::pathways::resolve_signals(exp) {
+        notes.extend(
+            crate::caveats::caveats(exp, &resolved)
+                .into_iter()
+                .map(|c| format!("cannot be cycled away: {c}")),
+        );
+    }
     let geometry = req.source.geometry(exp);
     let (search_to, search_note) = first_leak::search_bound(exp, k, req.leak_search_to)?;
     notes.extend(search_note);

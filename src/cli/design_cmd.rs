@@ -143,8 +143,11 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     }
     out.push_str(&report.summary);
     out.push('\n');
-    for i in &report.impossible {
-        out.push_str(&format!("  - {}\n", i.describe()));
+    if !report.caveats.is_empty() {
+        out.push_str("\nno phase cycle can remove these:\n");
+        for c in &report.caveats {
+            out.push_str(&format!("  - {c}\n"));
+        }
     }
     print(&out)?;
     Ok(code)

@@ -99,7 +99,7 @@ pub enum Impossibility {
         output: String,
         /// The rejected signature over the cycled fields.
         rejected: Vec<i64>,
-        /// A finer grid that lifts the alias.
+        /// A grid (steps per turn, one per experiment field) on which nothing aliases.
         finer_grid: Vec<u32>,
     },
 }
@@ -115,8 +115,12 @@ impl Impossibility {
                 "output `{output}`: {rejected} differs from the kept {kept} only on the fixed field(s) {}; no cycle with those phases fixed separates them — make one of them cycled",
                 fields.join(", ")
             ),
-            Impossibility::Aliased { output, rejected, finer_grid } => format!(
-                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals the kept one modulo the phase grid; use a finer grid, e.g. {finer_grid:?} steps per turn"
+            Impossibility::Aliased { output, rejected, finer_grid } if !finer_grid.is_empty() => format!(
+                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals the kept one modulo the phase grid; a grid on which nothing aliases: `--grid {}` (steps per turn, one per field)",
+                finer_grid.iter().map(|g| g.to_string()).collect::<Vec<_>>().join(",")
+            ),
+            Impossibility::Aliased { output, rejected, .. } => format!(
+                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals a kept one; no phase cycle separates them"
             ),
         }
     }

@@ -101,6 +101,8 @@ pub struct DesignReport {
     pub beyond: Option<BeyondSummary>,
     /// The lattice optimum when a shorter weighted design replaced it.
     pub lattice_steps: Option<u64>,
+    /// Terms no phase cycle can remove that affect the kept signals, in words.
+    pub caveats: Vec<String>,
     /// Why no design is possible, if so.
     pub impossible: Vec<Impossibility>,
     /// True when the search was interrupted (the design is then not proven minimal).
@@ -165,6 +167,7 @@ pub fn design(
         noise_efficiency: 0.0,
         beyond: None,
         lattice_steps: None,
+        caveats: crate::caveats::caveats(exp, &prep.outputs),
         impossible: prep.impossible.clone(),
         cancelled: false,
         seconds: 0.0,
@@ -195,7 +198,7 @@ pub fn design(
             report.impossible.push(Impossibility::Aliased {
                 output: prep.problem.outputs[output].name.clone(),
                 rejected,
-                finer_grid: finer_grid_hint,
+                finer_grid: lift_all_aliasing(exp, &prep, finer_grid_hint, ctl),
             });
             report.summary = format!("No cycle on this grid: {}", report.impossible[0].describe());
             report.seconds = start.elapsed().as_secs_f64();
@@ -390,6 +393,43 @@ pub fn design(
     report.seconds = start.elapsed().as_secs_f64();
     report.summary = summary_text(&report);
     Ok(report)
+}
+
+/// One grid, over every experiment field (fixed fields 1), on which no kept term aliases a
+/// rejected one: merge the search's hints until none remains (a few rounds at most).
+fn lift_all_aliasing(
+    exp: &Experiment,
+    prep: &super::Prepared,
+    mut grid: Vec<u32>,
+    ctl: &SearchControl,
+) -> Vec<u32> {
+    use num_integer::Integer;
+    for _ in 0..8 {
+        let mut p = prep.problem.clone();
+        p.grid = grid.clone();
+        p.max_steps = 1;
+        match crate::design::search(&p, ctl) {
+            Ok(SearchOutcome::Aliased {
+                finer_grid_hint, ..
+            }) => {
+                grid = grid
+                    .iter()
+                    .zip(&finer_grid_hint)
+                    .map(|(a, b)| a.lcm(b))
+                    .collect();
+            }
+            _ => break,
+        }
+    }
+    (0..exp.fields.len())
+        .map(|j| {
+            prep.cycled
+                .iter()
+                .position(|&c| c == j)
+                .map(|k| grid[k])
+                .unwrap_or(1)
+        })
+        .collect()
 }
 
 fn summary_text(r: &DesignReport) -> String {
