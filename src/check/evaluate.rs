@@ -173,7 +173,6 @@ pub fn check_output(
         .first()
         .map_or(1.0, |k| k.value.abs)
         .max(f64::MIN_POSITIVE);
-    let labels = exp.wavevector_labels();
     let mut conjugates = Vec::new();
     let mut leaks = Vec::new();
     let mut leak_count = 0usize;
@@ -196,7 +195,8 @@ pub fn check_output(
             leaks.push(Leak {
                 signature: b.clone(),
                 weight: b.weight(),
-                direction: b.direction(&labels),
+                order: exp.term_order(b),
+                direction: exp.signal_direction(b),
                 origin: origin.clone(),
                 relative: value.abs / ref_abs,
                 value,

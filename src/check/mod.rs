@@ -161,6 +161,9 @@ pub struct Leak {
     pub signature: Signature,
     /// `sum |b|`.
     pub weight: i64,
+    /// Perturbative order of the term: `sum |b|`, less one where a reference (LO, receiver,
+    /// probe) enters.
+    pub order: i64,
     /// Phase-matching direction.
     pub direction: String,
     /// Why it is in the rejection set.

@@ -195,7 +195,7 @@ fn render(r: &CheckReport) -> String {
                     .exact
                     .clone()
                     .unwrap_or_else(|| fmt_c(k.value.re, k.value.im)),
-                format!("{:.6}", k.value.abs),
+                fmt_abs(k.value.abs),
                 format!("noise eff. {:.4}", k.noise_efficiency),
             ]);
         }
@@ -207,7 +207,7 @@ fn render(r: &CheckReport) -> String {
                     .exact
                     .clone()
                     .unwrap_or_else(|| fmt_c(c.value.re, c.value.im)),
-                format!("{:.6}", c.value.abs),
+                fmt_abs(c.value.abs),
                 if c.cancelled {
                     "cancelled".into()
                 } else {
@@ -218,7 +218,7 @@ fn render(r: &CheckReport) -> String {
         for l in &o.leaks {
             let origin = match &l.origin {
                 pathsieve::check::Origin::OtherOutput(n) => format!("output {n}"),
-                pathsieve::check::Origin::Agnostic => format!("order {}", l.weight),
+                pathsieve::check::Origin::Agnostic => format!("order {}", l.order),
                 pathsieve::check::Origin::Pathway => "pathway".into(),
                 pathsieve::check::Origin::Conjugate => "conjugate".into(),
             };
@@ -229,7 +229,7 @@ fn render(r: &CheckReport) -> String {
                     .exact
                     .clone()
                     .unwrap_or_else(|| fmt_c(l.value.re, l.value.im)),
-                format!("{:.6}", l.value.abs),
+                fmt_abs(l.value.abs),
                 format!("{origin}, {}", l.direction),
             ]);
         }
@@ -249,8 +249,11 @@ fn render(r: &CheckReport) -> String {
             Some(f) => {
                 let _ = writeln!(
                     s,
-                    "first leak at {} {}: {} (|F| = {:.4})",
-                    f.measure, f.order, f.signature, f.abs
+                    "first leak at {} {}: {} (|F| = {})",
+                    f.measure,
+                    f.order,
+                    f.signature,
+                    fmt_abs(f.abs)
                 );
             }
             None => {
@@ -272,7 +275,7 @@ fn render(r: &CheckReport) -> String {
             );
         }
         if let Some(tol) = &o.tolerance {
-            let _ = writeln!(s, "tolerance (phase error {:.4} deg): worst-case leak {:.3e}, RMS leak {:.3e} (relative to |F(t)|){}", tol.delta_degrees, tol.worst_case_max, tol.rms_max, match (tol.bits, tol.quantised_max) { (Some(b), Some(q)) => format!("; {b}-bit quantisation leak {q:.3e}"), _ => String::new() });
+            let _ = writeln!(s, "tolerance (phase error {:.4} deg): worst-case leak bound {:.3e} (first order in the error), RMS leak {:.3e} (relative to |F(t)|){}", tol.delta_degrees, tol.worst_case_max, tol.rms_max, match (tol.bits, tol.quantised_max) { (Some(b), Some(q)) => format!("; {b}-bit quantisation leak {q:.3e}"), _ => String::new() });
             let d: Vec<String> = tol
                 .drift
                 .iter()
@@ -291,6 +294,10 @@ fn render(r: &CheckReport) -> String {
         "\nverdict: {}{}",
         if r.clean {
             format!("clean through order {}", r.order)
+        } else if r.outputs.iter().any(|o| !o.lost.is_empty())
+            && r.outputs.iter().all(|o| o.leak_count == 0)
+        {
+            format!("wanted term lost (F(t) = 0): nothing leaks through order {}, but the cycle also cancels what it should keep", r.order)
         } else {
             format!("leaks (through order {})", r.order)
         },
@@ -306,4 +313,14 @@ fn fmt_c(re: f64, im: f64) -> String {
         if im < 0.0 { "-" } else { "+" },
         im.abs()
     )
+}
+
+/// |F| for tables: fixed-point in the usual range, scientific notation for tiny values so a
+/// real but small leak never prints as 0.000000.
+fn fmt_abs(x: f64) -> String {
+    if x != 0.0 && x < 1e-4 {
+        format!("{x:.3e}")
+    } else {
+        format!("{x:.6}")
+    }
 }

@@ -187,7 +187,6 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
         }
     }
     if a.json {
-        let labels = exp.wavevector_labels();
         let pathways = (!a.summary).then(|| {
             rows.iter()
                 .map(|p| PathwayRow {
@@ -198,7 +197,7 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
                         .map(|e| render::element_label(&exp, e))
                         .collect(),
                     final_element: render::element_label(&exp, &p.final_element),
-                    direction: pulse_direction(&exp, &p.signature, &labels),
+                    direction: exp.signal_direction(&p.signature),
                     pathway: p.clone(),
                 })
                 .collect()
@@ -227,7 +226,6 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
         scope_text
     ));
     if !a.summary {
-        let labels = exp.wavevector_labels();
         let mut t = table(&[
             "#",
             "interactions",
@@ -255,7 +253,7 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
                 render::delays_label(&exp, p),
                 format!("{:+}", p.sign),
                 p.signature.to_string(),
-                pulse_direction(&exp, &p.signature, &labels),
+                exp.signal_direction(&p.signature),
                 class,
                 if p.coherence_orders.is_empty() {
                     render::element_label(&exp, &p.final_element)
@@ -279,7 +277,7 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
         }
         out.push('\n');
     }
-    out.push_str(&summary_table(&exp, &summary));
+    out.push_str(&summary_table(&summary));
     for r in &resolved {
         let kept: Vec<String> = r.kept.iter().map(|s| s.to_string()).collect();
         out.push_str(&format!("wanted `{}`: keeps {}\n", r.name, kept.join(" ")));
@@ -301,14 +299,7 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
     Ok(0)
 }
 
-fn pulse_direction(exp: &Experiment, s: &Signature, labels: &[String]) -> String {
-    let pulses = exp.pulse_indices();
-    let part = Signature(pulses.iter().map(|&j| s.0[j]).collect());
-    let l: Vec<String> = pulses.iter().map(|&j| labels[j].clone()).collect();
-    part.direction(&l)
-}
-
-fn summary_table(exp: &Experiment, s: &pathways::Summary) -> String {
+fn summary_table(s: &pathways::Summary) -> String {
     let mut t = table(&[
         "signature",
         "k_s",
@@ -317,14 +308,12 @@ fn summary_table(exp: &Experiment, s: &pathways::Summary) -> String {
         "phase matched",
         "wanted by",
     ]);
-    let labels = exp.wavevector_labels();
     for e in &s.signatures {
         let classes: Vec<String> = e
             .classes
             .iter()
             .map(|(c, n)| format!("{} {n}", c.short()))
             .collect();
-        let _ = &labels;
         t.add_row(vec![
             e.signature.to_string(),
             e.direction.clone(),

@@ -232,6 +232,33 @@ impl Experiment {
             .collect()
     }
 
+    /// The signal's phase-matching direction `k_s` over the pulses for a detected term `b`:
+    /// the pulses' components, with the probe's LO coefficient added back in pump-probe
+    /// geometry (the term is `b = b_pathway - e_probe`), e.g. `-kpu1+kpu2+kpr`.
+    pub fn signal_direction(&self, b: &Signature) -> String {
+        let pulses = self.pulse_indices();
+        let probe = match self.detection {
+            Detection::PumpProbe => self.detector_field(),
+            _ => None,
+        };
+        let part = Signature(
+            pulses
+                .iter()
+                .map(|&j| b.0[j] + i64::from(Some(j) == probe))
+                .collect(),
+        );
+        let labels: Vec<String> = pulses
+            .iter()
+            .map(|&j| format!("k{}", self.fields[j].name))
+            .collect();
+        part.direction(&labels)
+    }
+
+    /// The order of a term: `sum |b|` less the reference's one unit where a reference enters.
+    pub fn term_order(&self, b: &Signature) -> i64 {
+        (b.weight() - i64::from(self.has_reference())).max(0)
+    }
+
     /// True when a reference field (LO, receiver, or the probe in pump-probe) enters the
     /// signature; the agnostic set then allows one more unit of `sum |b|`.
     pub fn has_reference(&self) -> bool {

@@ -72,15 +72,11 @@ pub fn summarize(
             add(p, true);
         }
     });
-    let labels = exp.wavevector_labels();
-    let pulses = exp.pulse_indices();
     let mut signatures: Vec<SignatureSummary> = map
         .into_iter()
-        .map(|(signature, (count, conj, classes, weight_sum))| {
-            let pulse_part = Signature(pulses.iter().map(|&j| signature.0[j]).collect());
-            let pulse_labels: Vec<String> = pulses.iter().map(|&j| labels[j].clone()).collect();
-            SignatureSummary {
-                direction: pulse_part.direction(&pulse_labels),
+        .map(
+            |(signature, (count, conj, classes, weight_sum))| SignatureSummary {
+                direction: exp.signal_direction(&signature),
                 phase_matched: exp.is_phase_matched(&signature),
                 wanted_by: wanted
                     .iter()
@@ -92,8 +88,8 @@ pub fn summarize(
                 conjugates: conj,
                 classes,
                 weight_sum,
-            }
-        })
+            },
+        )
         .collect();
     signatures.sort_by(|a, b| {
         a.signature
