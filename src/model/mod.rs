@@ -234,7 +234,9 @@ impl Experiment {
 
     /// The signal's phase-matching direction `k_s` over the pulses for a detected term `b`:
     /// the pulses' components, with the probe's LO coefficient added back in pump-probe
-    /// geometry (the term is `b = b_pathway - e_probe`), e.g. `-kpu1+kpu2+kpr`.
+    /// geometry (the term is `b = b_pathway - e_probe`, or for a complex-conjugate term
+    /// `b = b_pathway + e_probe`; the one with the smaller probe coefficient is shown, the
+    /// first on a tie), e.g. `-kpu1+kpu2+kpr`.
     pub fn signal_direction(&self, b: &Signature) -> String {
         let pulses = self.pulse_indices();
         let probe = match self.detection {
@@ -244,7 +246,11 @@ impl Experiment {
         let part = Signature(
             pulses
                 .iter()
-                .map(|&j| b.0[j] + i64::from(Some(j) == probe))
+                .map(|&j| match probe {
+                    Some(p) if p == j && b.0[j] > 0 => b.0[j] - 1,
+                    Some(p) if p == j => b.0[j] + 1,
+                    _ => b.0[j],
+                })
                 .collect(),
         );
         let labels: Vec<String> = pulses
