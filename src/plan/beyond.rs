@@ -107,8 +107,8 @@ pub fn search_below(
                         if out.exact_certificate { " (exact certificate)" } else { " (certificate partly numerical)" }
                     ),
                     None => format!(
-                        "no weighted step set with at most {} steps on the grid {grid:?} works either ({} step sets tested{}{})",
-                        out.exhaustive_up_to,
+                        "no weighted step set with at most {} on the grid {grid:?} works either ({} step sets tested{}{})",
+                        super::report::steps_text(out.exhaustive_up_to as u64),
                         out.subsets_tested,
                         if out.exact_certificate { ", each ruled out exactly" } else { ", some ruled out numerically only" },
                         if out.stopped_by_time { "; stopped on the time budget" } else { "" }

@@ -469,7 +469,7 @@ fn summary_text(r: &DesignReport) -> String {
     let cog = match &r.cogwheel {
         Some(CogwheelScan { best: Some((m, nu)), .. }) => format!(" The smallest cogwheel cycle has {m} steps (winding numbers {nu:?})."),
         Some(c) if c.budget_exhausted => format!(" No cogwheel cycle with fewer than {} steps exists; the scan stopped on its budget there.", c.excluded_below),
-        Some(c) => format!(" No cogwheel cycle with at most {} steps exists.", c.excluded_below.saturating_sub(1)),
+        Some(c) => format!(" No cogwheel cycle with at most {} exists.", steps_text(c.excluded_below.saturating_sub(1))),
         None => String::new(),
     };
     let nmr =
@@ -500,7 +500,8 @@ fn summary_text(r: &DesignReport) -> String {
         None => String::new(),
     };
     format!(
-        "{n} steps: {kind} cycling {} that keeps {} and cancels all {} {} terms through order {} (exact).{nested}{cog}{leak}{proof}{beyond}",
+        "{}: {kind} cycling {} that keeps {} and cancels all {} {} terms through order {} (exact).{nested}{cog}{leak}{proof}{beyond}",
+        steps_text(n),
         r.cycled_fields.join(", "),
         r.kept
             .iter()
@@ -511,4 +512,13 @@ fn summary_text(r: &DesignReport) -> String {
         match r.rejection { RejectionSource::Agnostic => "agnostic", RejectionSource::Pathways => "enumerated" },
         r.order
     )
+}
+
+/// `1 step`, `27 steps`.
+pub(crate) fn steps_text(n: u64) -> String {
+    if n == 1 {
+        "1 step".into()
+    } else {
+        format!("{n} steps")
+    }
 }
