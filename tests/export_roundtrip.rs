@@ -2,6 +2,8 @@
 //! checker gives the same verdict (CSV, JSON, NPY); NPY headers per the NumPy format
 //! description; a two-pulse shaper mask through the CLI; all-or-nothing safe writing.
 
+mod common;
+
 use num_complex::Complex64;
 use pathsieve::check::{check_cycle, CheckReport, CheckRequest};
 use pathsieve::cycle::{read_cycle, Cycle};
@@ -14,16 +16,7 @@ use std::path::{Path, PathBuf};
 use std::process::Command;
 
 fn run(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_pathsieve"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args(args)
-        .output()
-        .expect("the binary runs");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
+    common::run_cli(args)
 }
 
 fn root(p: &str) -> PathBuf {

@@ -2,6 +2,8 @@
 //! implementation of the format of NEP 1 (R. Kern, 2007, from memory). Skipped, with a printed
 //! note, when `python3` with `numpy` is not installed.
 
+mod common;
+
 use std::process::Command;
 
 use num_complex::Complex64;
@@ -9,17 +11,9 @@ use pathsieve::export::mask::{mask_set_npy, masks_for_cycle, Calibration, MaskSp
 use pathsieve::export::npy::{npy_c128, npy_f64, npy_i64, read_npy, NpyData};
 use pathsieve::safe_write::write_atomic;
 
-fn numpy_available() -> bool {
-    Command::new("python3")
-        .args(["-c", "import numpy"])
-        .output()
-        .map(|o| o.status.success())
-        .unwrap_or(false)
-}
-
 #[test]
 fn numpy_loads_what_pathsieve_writes_and_the_reverse() {
-    if !numpy_available() {
+    if !common::numpy_available() {
         eprintln!("note: python3 with numpy not found; NumPy cross-check skipped");
         return;
     }

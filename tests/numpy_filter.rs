@@ -10,14 +10,6 @@ use pathsieve::exact::ExactFilter;
 use std::io::Write;
 use std::process::{Command, Stdio};
 
-fn numpy_available() -> bool {
-    Command::new("python3")
-        .args(["-c", "import numpy"])
-        .output()
-        .map(|o| o.status.success())
-        .unwrap_or(false)
-}
-
 const SCRIPT: &str = r#"
 import json, sys, numpy as np
 d = json.load(sys.stdin)
@@ -72,7 +64,7 @@ fn ball(n: usize, r: i64) -> Vec<Vec<i64>> {
 
 #[test]
 fn numpy_agrees_with_the_exact_zero_test_on_published_cycles() {
-    if !numpy_available() {
+    if !common::numpy_available() {
         eprintln!("note: python3 with numpy not found; NumPy cross-check skipped");
         return;
     }

@@ -38,6 +38,7 @@ pub fn scheme(name: &str) -> std::path::PathBuf {
 /// Run the binary with arguments; returns (exit code, stdout, stderr).
 pub fn run_cli(args: &[&str]) -> (i32, String, String) {
     let out = std::process::Command::new(env!("CARGO_BIN_EXE_pathsieve"))
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
         .args(args)
         .output()
         .expect("the binary runs");
@@ -46,4 +47,13 @@ pub fn run_cli(args: &[&str]) -> (i32, String, String) {
         String::from_utf8_lossy(&out.stdout).into_owned(),
         String::from_utf8_lossy(&out.stderr).into_owned(),
     )
+}
+
+/// True when `python3` with `numpy` can be run (the NumPy cross-checks skip otherwise).
+pub fn numpy_available() -> bool {
+    std::process::Command::new("python3")
+        .args(["-c", "import numpy"])
+        .output()
+        .map(|o| o.status.success())
+        .unwrap_or(false)
 }
