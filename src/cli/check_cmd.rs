@@ -191,10 +191,7 @@ fn render(r: &CheckReport) -> String {
             t.add_row(vec![
                 "kept".into(),
                 k.signature.to_string(),
-                k.value
-                    .exact
-                    .clone()
-                    .unwrap_or_else(|| fmt_c(k.value.re, k.value.im)),
+                fmt_value(&k.value),
                 fmt_abs(k.value.abs),
                 format!("noise eff. {:.4}", k.noise_efficiency),
             ]);
@@ -203,10 +200,7 @@ fn render(r: &CheckReport) -> String {
             t.add_row(vec![
                 "conjugate".into(),
                 c.signature.to_string(),
-                c.value
-                    .exact
-                    .clone()
-                    .unwrap_or_else(|| fmt_c(c.value.re, c.value.im)),
+                fmt_value(&c.value),
                 fmt_abs(c.value.abs),
                 if c.cancelled {
                     "cancelled".into()
@@ -225,10 +219,7 @@ fn render(r: &CheckReport) -> String {
             t.add_row(vec![
                 "LEAK".into(),
                 l.signature.to_string(),
-                l.value
-                    .exact
-                    .clone()
-                    .unwrap_or_else(|| fmt_c(l.value.re, l.value.im)),
+                fmt_value(&l.value),
                 fmt_abs(l.value.abs),
                 format!("{origin}, {}", l.direction),
             ]);
@@ -323,4 +314,9 @@ fn fmt_abs(x: f64) -> String {
     } else {
         format!("{x:.6}")
     }
+}
+
+/// A filter value for tables: its exact form when known, else the float with a `~`.
+fn fmt_value(v: &pathsieve::check::Value) -> String {
+    v.exact.clone().unwrap_or_else(|| fmt_c(v.re, v.im))
 }

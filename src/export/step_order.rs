@@ -7,9 +7,8 @@
 //! that the output cancels in the designed order, for every output. Floats are right here: it
 //! is a tolerance figure, not a leak decision; reordering never changes any F(b).
 //!
-//! `plan::choose::order_for_drift` does the same for designer lattices with weights derived
-//! from one signature; exported cycles may carry explicit weights and several outputs, so the
-//! moment is computed here from the weights themselves.
+//! The designer uses the same descent ([`drift_order_for`]) with its own background list (the
+//! rejected terms with `sum |b| <= 2`); exported cycles use every low-order signature.
 
 use num_complex::Complex64;
 
@@ -60,8 +59,18 @@ fn low_order_signatures(n: usize) -> Vec<Vec<i64>> {
 /// deterministic pairwise-swap descent on the largest first moment of the cancelled low-order
 /// backgrounds. Lists longer than [`MAX_REORDER_STEPS`] keep the designed order.
 pub fn drift_order(turns: &[Vec<f64>], weights: &[Vec<Complex64>]) -> DriftOrder {
-    let n = turns.len();
     let fields = turns.first().map_or(0, Vec::len);
+    drift_order_for(turns, weights, &low_order_signatures(fields))
+}
+
+/// [`drift_order`] with the backgrounds given (signatures over the same fields as `turns`);
+/// only those each output cancels in the designed order count.
+pub fn drift_order_for(
+    turns: &[Vec<f64>],
+    weights: &[Vec<Complex64>],
+    backgrounds: &[Vec<i64>],
+) -> DriftOrder {
+    let n = turns.len();
     let outputs = weights.first().map_or(0, Vec::len);
     // z[s][m] = w_m exp(2 pi i b.phi_m) for each series s = (output, cancelled background).
     let mut series: Vec<Vec<Complex64>> = Vec::new();
@@ -71,12 +80,12 @@ pub fn drift_order(turns: &[Vec<f64>], weights: &[Vec<Complex64>]) -> DriftOrder
         if sum_abs == 0.0 {
             continue;
         }
-        for b in low_order_signatures(fields) {
+        for b in backgrounds {
             let z: Vec<Complex64> = turns
                 .iter()
                 .zip(weights)
                 .map(|(p, w)| {
-                    let x: f64 = p.iter().zip(&b).map(|(a, &k)| a * k as f64).sum();
+                    let x: f64 = p.iter().zip(b).map(|(a, &k)| a * k as f64).sum();
                     w[o] * Complex64::from_polar(1.0, std::f64::consts::TAU * x)
                 })
                 .collect();

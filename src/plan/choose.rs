@@ -1,6 +1,6 @@
 //! Choosing among equal-length lattice designs and ordering the steps: fewer distinct phases
-//! per field first, then the lowest leakage under a phase-calibration error, then a step order
-//! whose first moment against slow linear drift is smallest on the largest backgrounds.
+//! per field first, then the lowest leakage under a phase-calibration error. The step order
+//! against slow drift is chosen by [`crate::export::step_order::drift_order_for`].
 
 use crate::design::Lattice;
 use num_complex::Complex64;
@@ -109,77 +109,4 @@ pub fn pick(scores: &[Score]) -> (usize, String) {
         format!("{} equal-length lattice designs tie on every rule; the first in the search's canonical order", scores.len())
     };
     (idx[0], rule)
-}
-
-/// The first moment `|sum_m m w_m exp(2 pi i b.phi_m)|` (in units of the drift per step)
-/// for each background `b`, maximised.
-pub fn drift_moment(
-    phases: &[Vec<Ratio<i64>>],
-    order: &[usize],
-    t: &[i64],
-    backgrounds: &[Vec<i64>],
-) -> f64 {
-    let n = phases.len() as f64;
-    backgrounds
-        .iter()
-        .map(|b| {
-            order
-                .iter()
-                .enumerate()
-                .map(|(pos, &m)| {
-                    let x: f64 = phases[m]
-                        .iter()
-                        .zip(b.iter().zip(t))
-                        .map(|(p, (&bj, &tj))| {
-                            (*p.numer() as f64 / *p.denom() as f64) * (bj - tj) as f64
-                        })
-                        .sum();
-                    Complex64::from_polar(pos as f64 / n, 2.0 * PI * x)
-                })
-                .sum::<Complex64>()
-                .norm()
-        })
-        .fold(0.0, f64::max)
-}
-
-/// Reorder the steps to reduce the drift first moment on the backgrounds by deterministic
-/// pairwise-swap descent. Returns the order and the moment before and after.
-pub fn order_for_drift(
-    phases: &[Vec<Ratio<i64>>],
-    t: &[i64],
-    backgrounds: &[Vec<i64>],
-) -> (Vec<usize>, f64, f64) {
-    let n = phases.len();
-    let mut order: Vec<usize> = (0..n).collect();
-    let before = drift_moment(phases, &order, t, backgrounds);
-    if n < 3 || backgrounds.is_empty() || n > 400 {
-        return (order, before, before);
-    }
-    let mut best = before;
-    let budget = 40_000_000 / (n * backgrounds.len()).max(1);
-    let mut evaluations = 0usize;
-    let mut improved = true;
-    while improved && evaluations < budget {
-        improved = false;
-        for i in 0..n {
-            for j in (i + 1)..n {
-                order.swap(i, j);
-                let m = drift_moment(phases, &order, t, backgrounds);
-                evaluations += 1;
-                if m + 1e-12 < best {
-                    best = m;
-                    improved = true;
-                } else {
-                    order.swap(i, j);
-                }
-                if evaluations >= budget {
-                    break;
-                }
-            }
-            if evaluations >= budget {
-                break;
-            }
-        }
-    }
-    (order, before, best)
 }

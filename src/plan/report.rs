@@ -3,7 +3,7 @@
 //! first leak order and a one-paragraph summary.
 
 use super::beyond::{search_below, weighted_cycle, BeyondSummary};
-use super::choose::{order_for_drift, pick, score};
+use super::choose::{pick, score};
 use super::compare::{first_leak_order, min_cogwheel, CogwheelScan};
 use super::to_cycle::lattice_cycle;
 use super::{prepare, DesignRequest, Impossibility, PlanError, RejectionSource};
@@ -278,7 +278,28 @@ pub fn design(
         .filter(|b| b.weight() <= 2)
         .map(|b| super::restrict(b, &prep.cycled))
         .collect();
-    let (step_order, before, after) = order_for_drift(&phases, t0, &backgrounds);
+    let turns: Vec<Vec<f64>> = phases
+        .iter()
+        .map(|p| {
+            p.iter()
+                .map(|r| *r.numer() as f64 / *r.denom() as f64)
+                .collect()
+        })
+        .collect();
+    let n_steps = turns.len() as f64;
+    let weights: Vec<Vec<num_complex::Complex64>> = turns
+        .iter()
+        .map(|p| {
+            let tp: f64 = p.iter().zip(t0).map(|(a, &b)| a * b as f64).sum();
+            vec![num_complex::Complex64::from_polar(
+                1.0 / n_steps,
+                -std::f64::consts::TAU * tp,
+            )]
+        })
+        .collect();
+    let drift = crate::export::step_order::drift_order_for(&turns, &weights, &backgrounds);
+    // Report the moment as |sum_p (p / N) exp(2 pi i (b - t).phi)|, per unit drift per step.
+    let (step_order, before, after) = (drift.order, drift.before * n_steps, drift.after * n_steps);
     report.drift_moment_natural = before;
     report.drift_moment_ordered = after;
     report.step_order = if after + 1e-12 < before {
