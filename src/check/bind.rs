@@ -7,7 +7,8 @@ use super::CheckError;
 use crate::cycle::{weights_from_signature, Cycle, Phase, Weight, WeightSource};
 use crate::exact::{reduce_turn, snap_to_fraction, Turns};
 use crate::model::{Experiment, PhaseControl};
-use crate::pathways::{resolve_signals, Contamination};
+use crate::pathways::{Contamination, ResolvedSignal};
+use crate::selection::Selection;
 use crate::signature::Signature;
 
 /// How approximate phases are turned into exact ones.
@@ -128,12 +129,13 @@ impl BoundCycle {
     }
 }
 
-/// Map `cycle` onto `exp`.
+/// Map `cycle` onto the selection's experiment and outputs.
 pub fn bind_cycle(
-    exp: &Experiment,
+    sel: &Selection,
     cycle: &Cycle,
     snap: &SnapPolicy,
 ) -> Result<BoundCycle, CheckError> {
+    let exp = &sel.experiment;
     let names = exp.field_names();
     let fixed: Vec<bool> = exp
         .fields
@@ -245,7 +247,7 @@ pub fn bind_cycle(
         }
         Some(col.iter().map(|c| c.map_or(1, |c| u64::from(g[c]))).collect())
     });
-    let outputs = bind_outputs(exp, cycle, &col, &phases, &mut notes)?;
+    let outputs = bind_outputs(exp, &sel.outputs, cycle, &col, &phases, &mut notes)?;
     Ok(BoundCycle {
         phases,
         fixed,
@@ -257,12 +259,12 @@ pub fn bind_cycle(
 
 fn bind_outputs(
     exp: &Experiment,
+    resolved: &[ResolvedSignal],
     cycle: &Cycle,
     col: &[Option<usize>],
     phases: &[Vec<Phase>],
     notes: &mut Vec<String>,
 ) -> Result<Vec<BoundOutput>, CheckError> {
-    let resolved = resolve_signals(exp)?;
     let wanted_names: Vec<String> = resolved.iter().map(|r| r.name.clone()).collect();
     let embed = |t: &Signature| -> Signature {
         Signature(col.iter().map(|c| c.map_or(0, |c| t.0[c])).collect())
@@ -278,11 +280,11 @@ fn bind_outputs(
         for r in resolved {
             let t = r.kept[0].clone();
             out.push(BoundOutput {
-                name: r.name,
+                name: r.name.clone(),
                 weights: weights_from_signature(phases, &t.0),
                 source: WeightSource::FromSignature(t),
-                kept: r.kept,
-                contamination: r.contamination,
+                kept: r.kept.clone(),
+                contamination: r.contamination.clone(),
             });
         }
         return Ok(out);
