@@ -7,7 +7,7 @@ use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use pathsieve::cycle::{Cycle, Phase};
 use pathsieve::design::lattice::{Progress, SearchControl};
-use pathsieve::design::{design, DesignOptions, DesignReport};
+use pathsieve::design::{cycled_fields, design, DesignOptions, DesignReport};
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
@@ -63,6 +63,8 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
             bail!("{} exists; use --force to overwrite", o.display());
         }
     }
+    // Limits before work: the cycled-field count is known before any set is built.
+    cycled_fields(&exp)?;
     let sel = Selection::new(
         &exp,
         &SelectionRequest {

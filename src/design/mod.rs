@@ -16,7 +16,7 @@ pub mod weighted;
 pub mod weighted_stage;
 pub mod yardsticks;
 
-pub use prepare::{prepare, restrict, Prepared};
+pub use prepare::{cycled_fields, prepare, restrict, Prepared};
 pub use report::{design, DesignKind, DesignReport};
 
 use crate::error::ModelError;

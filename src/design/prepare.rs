@@ -4,7 +4,7 @@
 //! separate).
 
 use super::{DesignOptions, Impossibility, PlanError};
-use crate::design::lattice::{LatticeProblem, OutputSpec};
+use crate::design::lattice::{LatticeProblem, OutputSpec, MAX_DIMS};
 use crate::model::{Detection, Experiment, PathwayClass, PhaseControl};
 use crate::pathways::ResolvedSignal;
 use crate::selection::Selection;
@@ -33,15 +33,10 @@ pub fn restrict(b: &Signature, fields: &[usize]) -> Vec<i64> {
     fields.iter().map(|&j| b.0[j]).collect()
 }
 
-/// Build the problem.
-pub fn prepare(sel: &Selection, opts: &DesignOptions) -> Result<Prepared, PlanError> {
-    let exp = &sel.experiment;
-    let outputs = sel.outputs.clone();
-    if outputs.is_empty() {
-        return Err(PlanError::NoSignals);
-    }
-    let rejected = sel.rejected_by_all();
-
+/// The fields a design steps and the field the global phase holds fixed (when every field
+/// is cycled), refused when there are none or more than the lattice search supports. Cheap:
+/// call it before building a [`Selection`] so the limit answers before any work.
+pub fn cycled_fields(exp: &Experiment) -> Result<(Vec<usize>, Option<usize>), PlanError> {
     // Cycled fields; the global phase (every term has sum b = 0) lets one field stay fixed.
     let mut cycled: Vec<usize> = (0..exp.fields.len())
         .filter(|&j| exp.fields[j].phase == PhaseControl::Cycled)
@@ -55,6 +50,28 @@ pub fn prepare(sel: &Selection, opts: &DesignOptions) -> Result<Prepared, PlanEr
     if cycled.is_empty() {
         return Err(PlanError::NothingCycled);
     }
+    // Limits before work: the field count is known now, the rejection set is not built yet.
+    if cycled.len() > MAX_DIMS {
+        return Err(crate::error::ModelError::TooLarge {
+            what: "the number of cycled fields (the global phase frees one)".into(),
+            value: cycled.len() as u64,
+            limit: MAX_DIMS as u64,
+            hint: "hold more fields at a fixed phase (`phase = \"fixed\"`), e.g. pulses the shaper does not control".into(),
+        }
+        .into());
+    }
+    Ok((cycled, fixed_by_global_phase))
+}
+
+/// Build the problem.
+pub fn prepare(sel: &Selection, opts: &DesignOptions) -> Result<Prepared, PlanError> {
+    let exp = &sel.experiment;
+    let (cycled, fixed_by_global_phase) = cycled_fields(exp)?;
+    let outputs = sel.outputs.clone();
+    if outputs.is_empty() {
+        return Err(PlanError::NoSignals);
+    }
+    let rejected = sel.rejected_by_all();
 
     let mut impossible = Vec::new();
     for o in &outputs {

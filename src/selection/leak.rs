@@ -4,7 +4,7 @@
 //! of set as the rejection set (agnostic, or enumerated pathways with the scatter pairs).
 
 use super::{RejectionSource, Selection, SelectionError, Term};
-use crate::agnostic::agnostic_count;
+use crate::agnostic::{agnostic_count, check_agnostic_size};
 use crate::error::ModelError;
 use crate::limits::{MAX_AGNOSTIC_TERMS, MAX_ORDER};
 use crate::model::{Detection, Experiment};
@@ -108,14 +108,7 @@ pub(super) fn plan(
     let mut to = wanted;
     match source {
         RejectionSource::Agnostic => {
-            let count = agnostic_count(n, order + r);
-            if count > MAX_AGNOSTIC_TERMS {
-                return Err(too_large(
-                    &format!("the agnostic set over {n} fields through order {order}"),
-                    count,
-                )
-                .into());
-            }
+            check_agnostic_size(n, order, order + r)?;
             while to > order && agnostic_count(n, to + r) > MAX_SEARCH_TERMS {
                 to -= 1;
             }

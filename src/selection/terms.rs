@@ -24,7 +24,7 @@ pub fn build(
     } else {
         match source {
             RejectionSource::Agnostic => agnostic_terms(exp, to),
-            RejectionSource::FromPathways => pathway_terms(exp, to),
+            RejectionSource::FromPathways => pathway_terms(exp, to)?,
         }
     };
     if geometry {
@@ -81,7 +81,7 @@ fn agnostic_terms(exp: &Experiment, to: u32) -> Vec<Term> {
 
 /// Enumerated pathways through `to` and their conjugates (real detection), after the terms
 /// every optical experiment has whatever its level scheme: the reference alone and every pair.
-fn pathway_terms(exp: &Experiment, to: u32) -> Vec<Term> {
+fn pathway_terms(exp: &Experiment, to: u32) -> Result<Vec<Term>, ModelError> {
     let mut terms: Vec<Term> = sum_zero_ball(exp.fields.len(), 2)
         .into_iter()
         .map(|b| Term {
@@ -123,8 +123,8 @@ fn pathway_terms(exp: &Experiment, to: u32) -> Vec<Term> {
         if real {
             add(p.signature.conjugate(), true);
         }
-    });
-    terms
+    })?;
+    Ok(terms)
 }
 
 /// NMR: every coherence path `0 -> p_1 -> .. -> detected`, its order the coherence level
