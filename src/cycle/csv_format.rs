@@ -141,7 +141,7 @@ fn read_header(
             h.outputs.push(w.to_string());
         } else {
             let (name, col_unit) = split_header_unit(cell).map_err(|m| err(Some(&key), m))?;
-            if h.fields.iter().any(|f| *f == name) {
+            if h.fields.contains(&name) {
                 return Err(err(Some(cell), format!("field column `{name}` repeated")));
             }
             let unit = match (col_unit, declared.or(unit_override)) {

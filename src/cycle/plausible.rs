@@ -56,11 +56,13 @@ mod tests {
         assert!(w.contains("is the unit degrees"), "{w}");
         assert!(unit_warning("pu2", PhaseUnit::Turns, &[0.0, 1.0 / 3.0, 2.0 / 3.0]).is_none());
         // Radians with most cells beyond one turn: degrees.
-        assert!(
-            unit_warning("a", PhaseUnit::Radians, &[0.0, 90.0 / 6.283, 180.0 / 6.283])
-                .unwrap()
-                .contains("degrees")
-        );
+        assert!(unit_warning(
+            "a",
+            PhaseUnit::Radians,
+            &[0.0, 90.0 / std::f64::consts::TAU, 3.0]
+        )
+        .unwrap()
+        .contains("degrees"));
     }
 
     #[test]

@@ -150,6 +150,7 @@ mod tests {
     // Weights of the 27-step nested cycle as a spreadsheet writes them (6 decimals): cube
     // roots of unity, scaled by 1/27 or not (Tan 2008, weights exp(-2 pi i t.phi)/N (memory)).
     #[test]
+    #[allow(clippy::approx_constant)] // rounded inputs on purpose
     fn rounded_roots_of_unity_snap_to_the_exact_root() {
         let r = 5e-7 * std::f64::consts::SQRT_2;
         let (c, size) = snap_weight(Complex64::new(-0.5, 0.866025), r).unwrap();
