@@ -369,6 +369,7 @@ pub fn design(
         )),
         experiment: Some(exp.title.clone()),
         notes: vec![],
+        written: None,
     };
     report.cycle = Some(lattice_cycle(
         exp,
@@ -408,6 +409,7 @@ pub fn design(
                     )),
                     experiment: Some(exp.title.clone()),
                     notes: vec![summary.note.clone()],
+                    written: None,
                 };
                 let cycle = weighted_cycle(exp, &prep, &w, meta);
                 let (v, first) = verify(sel, &cycle)?;
