@@ -7,8 +7,10 @@ use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use pathsieve::cycle::{Cycle, Phase};
 use pathsieve::design::lattice::{Progress, SearchControl};
+use pathsieve::design::lattice_stage::ClassLayout;
 use pathsieve::design::{cycled_fields, design, DesignOptions, DesignReport};
 use pathsieve::experiment_file::read_experiment;
+use pathsieve::render::design_summary;
 use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
 use std::path::PathBuf;
@@ -49,6 +51,7 @@ pub struct DesignArgs {
 struct JsonOut<'a> {
     #[serde(flatten)]
     report: &'a DesignReport,
+    summary: String,
     cycle: Option<&'a Cycle>,
 }
 
@@ -126,6 +129,7 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     if a.json {
         print_json(&JsonOut {
             report: &report,
+            summary: design_summary::summary(&report),
             cycle: report.cycle.as_ref(),
         })?;
         return Ok(code);
@@ -134,16 +138,23 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     if let Some(cycle) = &report.cycle {
         out.push_str(&steps_table(cycle));
         out.push('\n');
+        let weights = match report.layout {
+            Some(ClassLayout::Separate) => "sum over the kept t of exp(-2 pi i t . phi_m)",
+            _ => "exp(-2 pi i t . phi_m)",
+        };
         out.push_str(&format!(
-            "weights: w_m = exp(-2 pi i t . phi_m) / {} per output (exact); phases in turns\n",
+            "weights: w_m = {weights} / {} per output (exact); phases in turns\n",
             cycle.len()
         ));
-        out.push_str(&format!(
-            "choice: {}\nstep order: {}\n\n",
-            report.choice_rule, report.step_order
-        ));
+        if let Some(c) = &report.choice {
+            out.push_str(&format!(
+                "choice: {}\nstep order: {}\n\n",
+                design_summary::choice_text(c),
+                design_summary::step_order_text(report.step_order.as_ref())
+            ));
+        }
     }
-    out.push_str(&report.summary);
+    out.push_str(&design_summary::summary(&report));
     out.push('\n');
     if !report.caveats.is_empty() {
         out.push_str("\nno phase cycle can remove these:\n");

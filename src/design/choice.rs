@@ -1,10 +1,11 @@
-//! Choosing among equal-length lattice designs and ordering the steps: fewer distinct phases
-//! per field first, then the lowest leakage under a phase-calibration error. The step order
-//! against slow drift is chosen by [`crate::export::step_order::drift_order_for`].
+//! Stage: choosing among equal-length lattice designs: fewer distinct phases per field first,
+//! then the lowest leakage under a phase-calibration error.
 
+use super::lattice_stage::LatticeFound;
 use crate::design::lattice::Lattice;
 use num_complex::Complex64;
 use num_rational::Ratio;
+use serde::Serialize;
 use std::f64::consts::PI;
 
 /// Relative phase-scale error used to rank designs by tolerance (1 %).
@@ -71,15 +72,42 @@ pub fn score(l: &Lattice, t: &[i64], rejected: &[Vec<i64>]) -> Score {
     }
 }
 
+/// Which rule picked the design among equal-length candidates.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+#[serde(rename_all = "kebab-case", tag = "rule")]
+pub enum ChoiceRule {
+    /// The search found one design of this length.
+    Only,
+    /// Fewest distinct phases per field (then in all).
+    FewestPhases {
+        /// Candidates compared.
+        candidates: usize,
+        /// Largest count on one field.
+        max_phases: u64,
+        /// Total over the fields.
+        sum_phases: u64,
+    },
+    /// Equally few phases; lowest leakage under a 1 % phase-calibration error.
+    Calibration {
+        /// Candidates compared.
+        candidates: usize,
+        /// Its worst |F| under the error.
+        leak: f64,
+    },
+    /// Every rule tied; the first in the search's canonical order.
+    Tie {
+        /// Candidates compared.
+        candidates: usize,
+    },
+    /// A weighted step set shorter than every lattice design.
+    WeightedShorter,
+}
+
 /// Pick the best of several equal-length candidates; returns its index and the rule that
-/// decided (a sentence for the report).
-pub fn pick(scores: &[Score]) -> (usize, String) {
+/// decided.
+pub fn pick(scores: &[Score]) -> (usize, ChoiceRule) {
     if scores.len() <= 1 {
-        return (
-            0,
-            "the search found one design of this length (unit-modulus weights, noise efficiency 1)"
-                .into(),
-        );
+        return (0, ChoiceRule::Only);
     }
     let mut idx: Vec<usize> = (0..scores.len()).collect();
     idx.sort_by(|&a, &b| {
@@ -95,18 +123,38 @@ pub fn pick(scores: &[Score]) -> (usize, String) {
             .then(a.cmp(&b))
     });
     let (best, second) = (&scores[idx[0]], &scores[idx[1]]);
+    let candidates = scores.len();
     let rule = if best.max_phases != second.max_phases || best.sum_phases != second.sum_phases {
-        format!(
-            "among {} equal-length lattice designs (all unit-modulus, noise efficiency 1), the one with the fewest distinct phases per field ({} at most, {} in all)",
-            scores.len(), best.max_phases, best.sum_phases
-        )
+        ChoiceRule::FewestPhases {
+            candidates,
+            max_phases: best.max_phases,
+            sum_phases: best.sum_phases,
+        }
     } else if (best.calibration_leak - second.calibration_leak).abs() > 1e-12 {
-        format!(
-            "among {} equal-length lattice designs with equally few phases, the one with the lowest leakage under a 1 % phase-calibration error (|F| <= {:.2e})",
-            scores.len(), best.calibration_leak
-        )
+        ChoiceRule::Calibration {
+            candidates,
+            leak: best.calibration_leak,
+        }
     } else {
-        format!("{} equal-length lattice designs tie on every rule; the first in the search's canonical order", scores.len())
+        ChoiceRule::Tie { candidates }
     };
     (idx[0], rule)
+}
+
+/// Stage: choose among the equal-length alternatives of a found design (scored for the first
+/// output's reference against the rejected set).
+pub fn choose(found: &LatticeFound) -> (Lattice, ChoiceRule) {
+    let p = &found.problem;
+    let t0 = &p.outputs[0].kept[0];
+    if found.alternatives.len() > 1 {
+        let scores: Vec<Score> = found
+            .alternatives
+            .iter()
+            .map(|l| score(l, t0, &p.rejected))
+            .collect();
+        let (i, rule) = pick(&scores);
+        (found.alternatives[i].clone(), rule)
+    } else {
+        (found.design.lattice.clone(), ChoiceRule::Only)
+    }
 }

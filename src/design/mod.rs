@@ -1,28 +1,39 @@
-//! The designer: from an experiment and a request to a finished, minimal phase cycle with
-//! its report. The pure mathematics lives in two submodules kept apart from the pipeline:
+//! The designer: from a [`crate::selection::Selection`] to a finished, minimal phase cycle
+//! with its report, as a pipeline of stages, each a function with typed input and output
+//! ([`pipeline`] runs them in order):
+//!
+//! problem ([`prepare`]) -> lattice search, kept signatures in one class or each in its own
+//! ([`lattice_stage`]) -> choice among equal designs ([`choice`]) -> step order against drift
+//! ([`step_order`]) -> cycle table ([`to_cycle`]) -> yardsticks, nested and cogwheel
+//! ([`yardsticks`]) -> weighted search below the lattice optimum ([`weighted_stage`]) ->
+//! verification by the checker ([`verify`]).
+//!
+//! The report is data ([`report`]); refusals are typed ([`refusal`]); the summary is rendered
+//! in `crate::render::design_summary`. The pure mathematics lives apart from the pipeline:
 //! [`lattice`] (Hermite-normal-form lattices and the pruned exhaustive search for the minimal
 //! index) and [`weighted`] (exhaustive search over weighted step sets with exact cyclotomic
-//! certificates). The pipeline prepares the problem ([`prepare`]), runs the lattice search,
-//! chooses among equal-length designs ([`choice`]), compares with the nested and cogwheel
-//! cycles ([`yardsticks`]), tries shorter weighted step sets ([`weighted_stage`]) and builds the
-//! cycle ([`to_cycle`]).
+//! certificates).
 
 pub mod choice;
 pub mod lattice;
+pub mod lattice_stage;
+pub mod pipeline;
 mod prepare;
-mod report;
+pub mod refusal;
+pub mod report;
+pub mod step_order;
 pub mod to_cycle;
+pub mod verify;
 pub mod weighted;
 pub mod weighted_stage;
 pub mod yardsticks;
 
+pub use pipeline::design;
 pub use prepare::{cycled_fields, prepare, restrict, Prepared};
-pub use report::{design, DesignKind, DesignReport};
+pub use refusal::{Impossibility, LimitRemedy, Refusal};
+pub use report::{DesignKind, DesignReport};
 
 use crate::error::ModelError;
-use crate::model::PathwayClass;
-use crate::signature::Signature;
-use serde::Serialize;
 use thiserror::Error;
 
 /// How hard the designer searches (what it must keep and cancel is the [`crate::selection::Selection`]).
@@ -45,67 +56,6 @@ impl Default for DesignOptions {
             max_phases_per_field: None,
             beyond_budget: std::time::Duration::from_secs(2),
             beyond_max_steps: 4,
-        }
-    }
-}
-
-/// A request no phase cycle can meet, with the reason in words.
-#[derive(Clone, Debug, PartialEq, Serialize)]
-#[serde(rename_all = "kebab-case", tag = "kind")]
-pub enum Impossibility {
-    /// Pathways of an unwanted class share a kept signature.
-    Contaminated {
-        /// Output name.
-        output: String,
-        /// The kept signature.
-        kept: Signature,
-        /// The unwanted class.
-        class: PathwayClass,
-        /// True when they arrive as complex conjugates.
-        via_conjugate: bool,
-        /// Why, and what would separate them.
-        explanation: String,
-    },
-    /// A rejected term differs from a kept one only on fixed-phase fields.
-    FixedFields {
-        /// Output name.
-        output: String,
-        /// The kept signature.
-        kept: Signature,
-        /// The rejected signature.
-        rejected: Signature,
-        /// The fixed fields; cycling one of them would separate the terms.
-        fields: Vec<String>,
-    },
-    /// A rejected term equals a kept one modulo the phase grid.
-    Aliased {
-        /// Output name.
-        output: String,
-        /// The rejected signature over the cycled fields.
-        rejected: Vec<i64>,
-        /// A grid (steps per turn, one per experiment field) on which nothing aliases.
-        finer_grid: Vec<u32>,
-    },
-}
-
-impl Impossibility {
-    /// One sentence for people.
-    pub fn describe(&self) -> String {
-        match self {
-            Impossibility::Contaminated { output, kept, explanation, .. } => {
-                format!("output `{output}` keeps {kept}, but {explanation}")
-            }
-            Impossibility::FixedFields { output, kept, rejected, fields } => format!(
-                "output `{output}`: {rejected} differs from the kept {kept} only on the fixed field(s) {}; no cycle with those phases fixed separates them — make one of them cycled",
-                fields.join(", ")
-            ),
-            Impossibility::Aliased { output, rejected, finer_grid } if !finer_grid.is_empty() => format!(
-                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals the kept one modulo the phase grid; a grid on which nothing aliases: `--grid {}` (steps per turn, one per field)",
-                finer_grid.iter().map(|g| g.to_string()).collect::<Vec<_>>().join(",")
-            ),
-            Impossibility::Aliased { output, rejected, .. } => format!(
-                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals a kept one; no phase cycle separates them"
-            ),
         }
     }
 }

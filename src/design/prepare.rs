@@ -26,6 +26,8 @@ pub struct Prepared {
     pub rejected: Vec<Signature>,
     /// Requests that no phase cycle can meet.
     pub impossible: Vec<Impossibility>,
+    /// Number of experiment fields.
+    pub field_count: usize,
 }
 
 /// Restrict a signature to the given fields.
@@ -91,19 +93,23 @@ pub fn prepare(sel: &Selection, opts: &DesignOptions) -> Result<Prepared, PlanEr
         .map(|j| exp.fields[j].name.clone())
         .collect();
     for o in &outputs {
-        let t = restrict(&o.kept[0], &cycled);
-        let others = rejected.iter().chain(
-            outputs
-                .iter()
-                .filter(|x| x.name != o.name)
-                .flat_map(|x| &x.kept),
-        );
-        for b in others {
-            if restrict(b, &cycled) == t {
+        for kept in &o.kept {
+            let t = restrict(kept, &cycled);
+            let others = rejected.iter().chain(
+                outputs
+                    .iter()
+                    .filter(|x| x.name != o.name)
+                    .flat_map(|x| &x.kept),
+            );
+            let same: Vec<Signature> = others
+                .filter(|b| restrict(b, &cycled) == t)
+                .cloned()
+                .collect();
+            if !same.is_empty() {
                 impossible.push(Impossibility::FixedFields {
                     output: o.name.clone(),
-                    kept: o.kept[0].clone(),
-                    rejected: b.clone(),
+                    kept: kept.clone(),
+                    rejected: same,
                     fields: fixed_names.clone(),
                 });
             }
@@ -142,6 +148,7 @@ pub fn prepare(sel: &Selection, opts: &DesignOptions) -> Result<Prepared, PlanEr
         outputs,
         rejected,
         impossible,
+        field_count: exp.fields.len(),
     })
 }
 

@@ -108,7 +108,7 @@ pub fn search_below(
                     ),
                     None => format!(
                         "no weighted step set with at most {} on the grid {grid:?} works either ({} step sets tested{}{})",
-                        super::report::steps_text(out.exhaustive_up_to as u64),
+                        crate::render::design_summary::steps_text(out.exhaustive_up_to as u64),
                         out.subsets_tested,
                         if out.exact_certificate { ", each ruled out exactly" } else { ", some ruled out numerically only" },
                         if out.stopped_by_time { "; stopped on the time budget" } else { "" }
