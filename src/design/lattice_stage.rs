@@ -43,7 +43,7 @@ pub struct LatticeFound {
 #[derive(Clone, Debug)]
 pub enum LatticeStage {
     /// A design.
-    Found(LatticeFound),
+    Found(Box<LatticeFound>),
     /// No design, with the refusal that is proven and its terms.
     Refused {
         /// Which refusal.
@@ -107,7 +107,7 @@ pub fn lattice_search(
         _ => true,
     });
     if let Some((d, alts, p, layout)) = best {
-        return Ok(LatticeStage::Found(LatticeFound {
+        return Ok(LatticeStage::Found(Box::new(LatticeFound {
             proven_minimal: complete,
             design: d.clone(),
             alternatives: if d.proven_minimal {
@@ -117,7 +117,7 @@ pub fn lattice_search(
             },
             layout,
             problem: p.clone(),
-        }));
+        })));
     }
     Ok(refuse(prep, opts, &tried, ctl))
 }

@@ -35,7 +35,7 @@ pub fn design(
         return Ok(report);
     }
     let found = match lattice_search(&prep, opts, ctl)? {
-        LatticeStage::Found(f) => f,
+        LatticeStage::Found(f) => *f,
         LatticeStage::Refused {
             refusal,
             causes,
