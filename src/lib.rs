@@ -47,3 +47,4 @@ pub mod plan;
 pub mod render;
 pub mod safe_write;
 pub mod signature;
+pub mod simulate;
