@@ -112,14 +112,16 @@ pub fn parse_dynamics(
     let correlation = match &raw.correlation {
         None => 1.0,
         Some(c) if (0.0..=1.0).contains(c.get_ref()) => *c.get_ref(),
-        Some(c) => return Err(err(
-            c.span(),
-            "correlation",
-            format!(
+        Some(c) => {
+            return Err(err(
+                c.span(),
+                "correlation",
+                format!(
                 "{} is outside 0..=1; 1 = every transition shifts together, 0 = independent states",
                 c.get_ref()
             ),
-        )),
+            ))
+        }
     };
     let state_index = |name: &str| levels.states.iter().position(|s| s.name == name);
     let names = || {
