@@ -10,7 +10,7 @@ use super::dynamics::{Dynamics, Propagator};
 use super::grid::{DelayGrid, MAX_GRID_POINTS};
 use super::SimulationError;
 use crate::model::{Detection, Experiment, PathwayClass};
-use crate::pathways::{check_size, for_each_pathway, Pathway, Scope};
+use crate::pathways::{for_each_pathway, Pathway, Scope};
 use crate::signature::Signature;
 use num_complex::Complex64;
 use serde::Serialize;
@@ -91,7 +91,6 @@ pub fn simulate_response(
             grid.len()
         )));
     }
-    check_size(exp, Scope::Signal)?;
     let levels = exp.levels.as_ref().expect("checked by delay_names");
     let prop = Propagator::new(levels, dyn_, frame);
     let mut paths: Vec<Pathway> = Vec::new();
@@ -102,7 +101,7 @@ pub fn simulate_response(
         } else {
             too_many = true;
         }
-    });
+    })?;
     if too_many {
         return Err(SimulationError::BadRequest(format!(
             "more than {MAX_SIMULATED_PATHWAYS} signal pathways; simplify the level scheme"
