@@ -44,5 +44,6 @@ pub mod model;
 pub mod pathways;
 pub mod render;
 pub mod safe_write;
+pub mod selection;
 pub mod signature;
 pub mod simulate;
