@@ -53,9 +53,9 @@ pub fn delay_names(exp: &Experiment) -> Result<Vec<String>, SimulationError> {
             "the simulator needs a level scheme; NMR coherence paths carry no energies".into(),
         ));
     }
-    if exp.overlap {
+    if !exp.overlap.is_empty() {
         return Err(SimulationError::Unsupported(
-            "overlapping pulses (`overlap = true`) have no well-defined delays; the impulsive simulator needs time-ordered pulses".into(),
+            "overlapping pulses (`overlap`) have no well-defined delays; the impulsive simulator needs time-ordered pulses".into(),
         ));
     }
     let pulses = exp.pulse_indices().len();
