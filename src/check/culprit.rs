@@ -8,10 +8,9 @@
 
 use super::bind::{BoundCycle, BoundOutput};
 use super::evaluate::Evaluator;
-use super::rejected::Origin;
 use crate::cycle::{Phase, Weight, WeightSource};
 use crate::exact::{reduce_turn, Cyclo, Turns};
-use crate::signature::Signature;
+use crate::selection::Term;
 use num_complex::Complex64;
 use num_traits::{CheckedAdd, CheckedMul};
 use serde::Serialize;
@@ -155,7 +154,7 @@ pub fn find(
     bound: &BoundCycle,
     names: &[String],
     out: &BoundOutput,
-    set: &[(Signature, Origin)],
+    set: &[Term],
     ev: &Evaluator,
 ) -> Vec<Suspect> {
     let t = out
@@ -299,12 +298,7 @@ struct Screen {
 }
 
 impl Screen {
-    fn new(
-        bound: &BoundCycle,
-        out: &BoundOutput,
-        set: &[(Signature, Origin)],
-        ev: &Evaluator,
-    ) -> Screen {
+    fn new(bound: &BoundCycle, out: &BoundOutput, set: &[Term], ev: &Evaluator) -> Screen {
         let rows = bound.phases_f64();
         let w: Vec<Complex64> = out.weights.iter().map(Weight::to_complex).collect();
         let kept = &out.kept;
@@ -312,9 +306,10 @@ impl Screen {
         let f = |b: &[i64]| -> Complex64 { rows.iter().zip(&w).map(|(r, wm)| wm * e(b, r)).sum() };
         let terms = set
             .iter()
-            .map(|(b, _)| {
-                let tol = ev.bound(&b.0).unwrap_or(0.0) + 1e-9 * sum_abs.max(1e-300);
-                (b.0.clone(), f(&b.0), tol)
+            .map(|term| {
+                let b = &term.signature.0;
+                let tol = ev.bound(b).unwrap_or(0.0) + 1e-9 * sum_abs.max(1e-300);
+                (b.clone(), f(b), tol)
             })
             .collect();
         let kept = kept.iter().map(|k| (k.0.clone(), f(&k.0))).collect();
@@ -358,7 +353,7 @@ impl Screen {
 fn confirm(
     bound: &BoundCycle,
     out: &BoundOutput,
-    set: &[(Signature, Origin)],
+    set: &[Term],
     ch: &Change,
     derived: bool,
     t: &[i64],
@@ -402,6 +397,7 @@ fn confirm(
     let Ok(ev) = Evaluator::new(&b2, &o2) else {
         return false;
     };
-    set.iter().all(|(b, _)| ev.is_zero(&b.0).unwrap_or(false))
+    set.iter()
+        .all(|term| ev.is_zero(&term.signature.0).unwrap_or(false))
         && o2.kept.iter().all(|k| !ev.is_zero(&k.0).unwrap_or(true))
 }
