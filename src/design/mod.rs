@@ -35,6 +35,9 @@ pub enum RejectionSource {
     Pathways,
 }
 
+/// Default work limit of the weighted search in a design run: step sets through the origin.
+pub const DEFAULT_BEYOND_STEP_SETS: u64 = 250_000;
+
 /// What the user asks the designer for.
 #[derive(Clone, Debug)]
 pub struct DesignRequest {
@@ -50,8 +53,9 @@ pub struct DesignRequest {
     pub max_steps: u64,
     /// Cap on distinct phases per field.
     pub max_phases_per_field: Option<u32>,
-    /// Time budget for the search beyond lattice designs (0 = skip it).
-    pub beyond_budget: std::time::Duration,
+    /// Work limit of the search beyond lattice designs: step sets through the origin over
+    /// all levels (0 = skip it). Deterministic: no clock is involved.
+    pub beyond_step_sets: u64,
     /// Largest step count the beyond-lattice search tries.
     pub beyond_max_steps: usize,
 }
@@ -65,8 +69,8 @@ impl Default for DesignRequest {
             grid: None,
             max_steps: 4096,
             max_phases_per_field: None,
-            beyond_budget: std::time::Duration::from_secs(2),
-            beyond_max_steps: 4,
+            beyond_step_sets: DEFAULT_BEYOND_STEP_SETS,
+            beyond_max_steps: weighted::MAX_BEYOND_STEPS,
         }
     }
 }
