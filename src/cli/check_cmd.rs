@@ -6,11 +6,12 @@ use super::output::{print, print_json, table, RejectionArgs};
 use anyhow::{bail, Context};
 use clap::Args;
 use pathsieve::check::{
-    check_cycle, CheckReport, CheckRequest, RejectionSource, SnapPolicy, ToleranceRequest,
+    check_cycle, CheckOptions, CheckReport, CheckRequest, SnapPolicy, ToleranceRequest,
 };
 use pathsieve::cycle::{read_cycle, text::parse_unit};
 use pathsieve::exact::{parse_phase, PhaseUnit, PhaseValue};
 use pathsieve::experiment_file::read_experiment;
+use pathsieve::selection::SelectionRequest;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -100,18 +101,15 @@ fn request(a: &CheckArgs) -> anyhow::Result<CheckRequest> {
         }
     };
     Ok(CheckRequest {
-        order: a.rejection.order,
-        source: if a.rejection.from_pathways {
-            RejectionSource::FromPathways
-        } else {
-            RejectionSource::Agnostic {
-                geometry: a.rejection.no_geometry.then_some(false),
-            }
+        selection: SelectionRequest {
+            leak_search_to: a.leak_search,
+            ..a.rejection.request()
         },
-        leak_search_to: a.leak_search,
-        snap,
-        tolerance,
-        max_listed: a.max_listed,
+        options: CheckOptions {
+            snap,
+            tolerance,
+            max_listed: a.max_listed,
+        },
     })
 }
 
@@ -153,15 +151,18 @@ fn render(r: &CheckReport) -> String {
     let _ = writeln!(
         s,
         "arithmetic: {}",
-        if r.exact {
+        if r.exact && r.snaps.is_empty() {
             "exact (cyclotomic)"
+        } else if r.exact {
+            "exact (cyclotomic) for the table snapped within its written precision"
         } else {
-            "NOT exact for some outputs (numeric, see notes)"
+            "within the table's written precision for some outputs (rigorous rounding bound)"
         }
     );
     for n in &r.notes {
         let _ = writeln!(s, "note: {n}");
     }
+    render_snaps(&mut s, &r.snaps);
     let mut t = table(&["field", "phases used (turns)", "grid"]);
     for f in &r.phases_used {
         let name = if f.fixed {
@@ -182,7 +183,7 @@ fn render(r: &CheckReport) -> String {
             "\noutput {} — {} ({}), weights {}, noise efficiency {:.4}",
             o.name,
             if o.clean { "CLEAN" } else { "LEAKS" },
-            if o.exact { "exact" } else { "not exact" },
+            class_label(o),
             o.weights,
             o.noise_efficiency
         );
@@ -210,12 +211,7 @@ fn render(r: &CheckReport) -> String {
             ]);
         }
         for l in &o.leaks {
-            let origin = match &l.origin {
-                pathsieve::check::Origin::OtherOutput(n) => format!("output {n}"),
-                pathsieve::check::Origin::Agnostic => format!("order {}", l.order),
-                pathsieve::check::Origin::Pathway => "pathway".into(),
-                pathsieve::check::Origin::Conjugate => "conjugate".into(),
-            };
+            let origin = pathsieve::render::origin::origin_text(&l.origin);
             t.add_row(vec![
                 "LEAK".into(),
                 l.signature.to_string(),
@@ -241,7 +237,7 @@ fn render(r: &CheckReport) -> String {
                 let _ = writeln!(
                     s,
                     "first leak at {} {}: {} (|F| = {})",
-                    f.measure,
+                    f.measure.label(),
                     f.order,
                     f.signature,
                     fmt_abs(f.abs)
@@ -250,7 +246,8 @@ fn render(r: &CheckReport) -> String {
             None => {
                 let _ = writeln!(
                     s,
-                    "no leak through order {} (agnostic search)",
+                    "no leak through {} {} (the same kind of set, searched above the order)",
+                    r.leak_measure.label(),
                     r.leak_search_to
                 );
             }
@@ -298,6 +295,38 @@ fn render(r: &CheckReport) -> String {
     s
 }
 
+/// The verdict class of an output in words.
+fn class_label(o: &pathsieve::check::OutputReport) -> String {
+    use pathsieve::check::VerdictClass;
+    match o.class {
+        VerdictClass::Exact => "exact".into(),
+        VerdictClass::ExactAfterSnapping => "exact after snapping".into(),
+        VerdictClass::WithinPrecision => format!(
+            "within the table's precision: |F| <= {} from rounding alone",
+            o.rounding_bound.map_or("-".into(), |b| format!("{b:.1e}"))
+        ),
+    }
+}
+
+/// The snapped cells, a few listed.
+fn render_snaps(s: &mut String, snaps: &[pathsieve::check::Snap]) {
+    const SHOWN: usize = 6;
+    for x in snaps.iter().take(SHOWN) {
+        let _ = writeln!(
+            s,
+            "snap: step {}, {}: {} -> {}",
+            x.step, x.column, x.written, x.exact
+        );
+    }
+    if snaps.len() > SHOWN {
+        let _ = writeln!(
+            s,
+            "snap: ... {} more (--json lists all)",
+            snaps.len() - SHOWN
+        );
+    }
+}
+
 fn fmt_c(re: f64, im: f64) -> String {
     format!(
         "~{re:.6}{}{:.6}i",
@@ -316,7 +345,8 @@ fn fmt_abs(x: f64) -> String {
     }
 }
 
-/// A filter value for tables: its exact form when known, else the float with a `~`.
+/// A filter value for tables: its exact form when known, else the float with a `~` (the
+/// rounding bound is in the output's heading and in --json).
 fn fmt_value(v: &pathsieve::check::Value) -> String {
     v.exact.clone().unwrap_or_else(|| fmt_c(v.re, v.im))
 }
