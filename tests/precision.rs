@@ -183,7 +183,7 @@ fn six_decimal_unscaled_weights_snap_to_roots_of_unity_and_check_exactly() {
 #[test]
 fn scientific_notation_as_numpy_savetxt_writes_it_is_read_and_clean() {
     let (c, exp) = published(CASES[0].0, CASES[0].1);
-    let mut s = header(c, "radians");
+    let mut s = header(&c, "radians");
     for (m, row) in c.steps.iter().enumerate() {
         s.push_str(&(m + 1).to_string());
         for p in row {
