@@ -117,7 +117,7 @@ proptest! {
             source: if from_pathways { RejectionSource::FromPathways } else { RejectionSource::Agnostic },
             ..SelectionRequest::default()
         };
-        let opts = DesignOptions { max_steps: 400, beyond_budget: std::time::Duration::from_millis(100), ..DesignOptions::default() };
+        let opts = DesignOptions { max_steps: 400, beyond_step_sets: 20_000, ..DesignOptions::default() };
         let (sel, r) = run(&e, &req, &opts);
         prop_assert!(r.steps.is_some(), "every random case has a design: {:?}", r.refusal);
         assert_consistent(&sel, &r);

@@ -173,7 +173,7 @@ fn weighted_below(
         prep,
         lattice,
         steps,
-        opts.beyond_budget,
+        opts.beyond_step_sets,
         opts.beyond_max_steps,
         ctl.cancel,
     )?;
