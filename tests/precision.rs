@@ -420,3 +420,32 @@ mod random_lattice_cycles {
         }
     }
 }
+
+// Round trip: the 27-step design exported as JSON (the file acquisition software loads) checks
+// clean with `pathsieve check` itself (Tan 2008 (memory) for the cycle).
+#[test]
+fn check_reads_the_tools_own_json_export() {
+    let d = std::env::temp_dir().join(format!("pathsieve-h8-json-{}", std::process::id()));
+    std::fs::create_dir_all(&d).unwrap();
+    let j = d.join("nested.json");
+    let exp = scheme("dye-fluorescence-2d.toml");
+    let cyc = scheme("dye-fluorescence-27step.cycle.toml");
+    let s = |p: &std::path::Path| p.to_str().unwrap().to_string();
+    let (code, _, err) = common::run_cli(&[
+        "export",
+        &s(&exp),
+        &s(&cyc),
+        "--format",
+        "json",
+        "--unit",
+        "rad",
+        "--out",
+        &s(&j),
+        "--force",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let (code, out, err) = common::run_cli(&["check", &s(&exp), &s(&j)]);
+    let _ = std::fs::remove_dir_all(&d);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(out.contains("clean through order"), "{out}");
+}

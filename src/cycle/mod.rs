@@ -259,11 +259,13 @@ pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle
     match ext.as_str() {
         "toml" => read_cycle_toml(&text, path, unit_override),
         "csv" | "tsv" | "txt" => read_cycle_csv(&text, path, unit_override),
+        // The tool's own JSON export, the file acquisition software loads.
+        "json" => crate::export::phase_import::read_phase_list_json(&text, path),
         other => Err(InputError::new(
             path,
             None,
             None,
-            format!("unknown cycle file extension `.{other}`; use .toml (cycle file) or .csv (plain table)"),
+            format!("unknown cycle file extension `.{other}`; use .toml (cycle file), .csv (plain table) or .json (a pathsieve export)"),
         )),
     }
 }
