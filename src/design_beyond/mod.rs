@@ -445,8 +445,7 @@ fn build_design(
             return Ok(None);
         };
         let t = &p.outputs[o].1;
-        let one = Cyclo::one(1)?;
-        if filter.eval(t).map(|f| f != one).unwrap_or(true) {
+        if !filter.is_one(t).unwrap_or(false) {
             return Ok(None);
         }
         let others = p.outputs.iter().enumerate().filter(|(k, _)| *k != o);
