@@ -1,9 +1,11 @@
 //! The streaming pathway enumerator: a depth-first walk over field interactions that hands each
 //! detected pathway to a visitor, reusing one buffer, so memory does not grow with the count.
 
-use super::classify::{classify, delay_elements};
+use super::classify::{classify, delay_ends};
 use super::nmr;
+use super::size::check_size;
 use super::{Direction, Element, Interaction, Pathway, Side};
+use crate::error::ModelError;
 use crate::model::{Detection, Experiment, LevelScheme, PathwayClass};
 use crate::signature::Signature;
 
@@ -31,11 +33,25 @@ struct Walker<'a, F: FnMut(&Pathway)> {
     ket: usize,
     bra: usize,
     amplitude: f64,
+    /// Reused buffer: the index of the element held in each delay.
+    ends: Vec<usize>,
 }
 
 /// Call `visit` for every detected pathway of `exp` in `scope`, in a deterministic order.
-/// The `Pathway` passed is a reused buffer: clone it to keep it.
-pub fn for_each_pathway<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visit: F) {
+/// The `Pathway` passed is a reused buffer: clone it to keep it. The enumeration's size is
+/// bounded first ([`check_size`]): a request above the limit is refused before any work.
+pub fn for_each_pathway<F: FnMut(&Pathway)>(
+    exp: &Experiment,
+    scope: Scope,
+    visit: F,
+) -> Result<(), ModelError> {
+    check_size(exp, scope)?;
+    walk(exp, scope, visit);
+    Ok(())
+}
+
+/// The enumeration itself, once its size is known to be within the limit.
+fn walk<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visit: F) {
     if let Detection::Nmr { .. } = exp.detection {
         nmr::for_each_coherence_path(exp, visit);
         return;
@@ -77,15 +93,35 @@ pub fn for_each_pathway<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visi
         ket: levels.ground,
         bra: levels.ground,
         amplitude: 1.0,
+        ends: Vec::with_capacity(max_depth as usize),
     };
     walker.descend(0);
 }
 
-/// Count the detected pathways without keeping any.
-pub fn count_pathways(exp: &Experiment, scope: Scope) -> u64 {
+/// Call `visit` for every row of a listing: each detected pathway, followed by its
+/// complex-conjugate partner when `conjugates` is set and the detection lists only the
+/// positive-frequency half ([`super::needs_conjugate_rows`]). Each row carries its own
+/// signature, sign and weight, so a filter applied to the rows sees what is listed.
+pub fn for_each_row<F: FnMut(&Pathway)>(
+    exp: &Experiment,
+    scope: Scope,
+    conjugates: bool,
+    mut visit: F,
+) -> Result<(), ModelError> {
+    let add_conjugates = conjugates && super::needs_conjugate_rows(exp);
+    for_each_pathway(exp, scope, |p| {
+        visit(p);
+        if add_conjugates {
+            visit(&p.conjugated());
+        }
+    })
+}
+
+/// Count the detected pathways without keeping any (size-checked like [`for_each_pathway`]).
+pub fn count_pathways(exp: &Experiment, scope: Scope) -> Result<u64, ModelError> {
     let mut n = 0u64;
-    for_each_pathway(exp, scope, |_| n += 1);
-    n
+    for_each_pathway(exp, scope, |_| n += 1)?;
+    Ok(n)
 }
 
 impl<'a, F: FnMut(&Pathway)> Walker<'a, F> {
@@ -235,18 +271,13 @@ impl<'a, F: FnMut(&Pathway)> Walker<'a, F> {
             bra: self.bra,
         };
         self.path.weight = f64::from(self.path.sign) * self.amplitude * detected_factor;
-        delay_elements(
-            &self.path.interactions,
-            &self.path.elements,
-            exp.overlap,
-            &mut self.path.delays,
-        );
-        let (class, pop) = classify(
-            levels,
-            &self.path.delays,
-            &self.path.elements,
-            &exp.detection,
-        );
+        delay_ends(&self.path.interactions, exp.overlap, &mut self.ends);
+        self.path.delays.clear();
+        let elements = &self.path.elements;
+        self.path
+            .delays
+            .extend(self.ends.iter().map(|&i| elements[i]));
+        let (class, pop) = classify(levels, elements, &self.ends, &exp.detection);
         self.path.class = if exp.swap_rnr_labels {
             match class {
                 PathwayClass::Rephasing => PathwayClass::NonRephasing,
