@@ -46,3 +46,4 @@ pub mod render;
 pub mod safe_write;
 pub mod selection;
 pub mod signature;
+pub mod simulate;
