@@ -11,12 +11,14 @@ use crate::exact::ExactFilter;
 use crate::model::Experiment;
 use crate::selection::{Origin, Term};
 use num_complex::Complex64;
+use num_traits::ToPrimitive;
 use serde::Serialize;
 
 /// A filter value for the report.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Value {
-    /// The exact form (e.g. `1`, `-1/2 + 1/2i`, `1/3*z3`), when exact.
+    /// The exact form (e.g. `1`, `-1/2 + 1/2i`, `1/3*z3`), when exact and at most
+    /// [`crate::exact::filter::MAX_WRITTEN_TERMS`] terms long.
     pub exact: Option<String>,
     /// Real part.
     pub re: f64,
@@ -171,12 +173,17 @@ impl Evaluator {
     pub fn value(&self, b: &[i64]) -> Result<Value, CheckError> {
         match self {
             Evaluator::Exact(f) => {
-                let c = f.eval(b)?;
-                Ok(Value::from_complex(
-                    c.to_complex(),
-                    Some(c.to_string()),
-                    None,
-                ))
+                let shown = f.shown_value(b)?;
+                // A Gaussian rational gives correctly rounded parts (no float noise such as
+                // 6e-17 in the real part of -i); other values are summed in floats.
+                let z = match &shown.gaussian {
+                    Some((re, im)) => Complex64::new(
+                        re.to_f64().unwrap_or(f64::NAN),
+                        im.to_f64().unwrap_or(f64::NAN),
+                    ),
+                    None => f.approx(b)?,
+                };
+                Ok(Value::from_complex(z, shown.text, None))
             }
             Evaluator::Numeric(_) => Ok(Value::from_complex(self.approx(b), None, self.bound(b))),
         }

@@ -91,8 +91,7 @@ impl Cyclo {
         if den.is_zero() {
             return Err(ExactError::DivisionByZero);
         }
-        let phi = cyclotomic_cached(n)?;
-        let num = reduce_mod(poly, &phi);
+        let num = reduce_mod(poly, n)?;
         Ok(Cyclo::normalised(n, num, den))
     }
 
@@ -211,7 +210,7 @@ impl Cyclo {
     }
 
     /// `Some((k, c))` if the numerator has exactly one nonzero entry `c` at index `k`.
-    fn single_term(&self) -> Option<(usize, &BigInt)> {
+    pub(crate) fn single_term(&self) -> Option<(usize, &BigInt)> {
         let mut it = self.num.iter().enumerate().filter(|(_, c)| !c.is_zero());
         let first = it.next()?;
         it.next().is_none().then_some(first)
@@ -225,8 +224,8 @@ impl Cyclo {
             let e = (j as i64 + k.rem_euclid(n)).rem_euclid(n) as usize;
             poly[e] += c;
         }
-        match cyclotomic_cached(self.order) {
-            Ok(p) => Cyclo::normalised(self.order, reduce_mod(poly, &p), self.den.clone()),
+        match reduce_mod(poly, self.order) {
+            Ok(p) => Cyclo::normalised(self.order, p, self.den.clone()),
             // Unreachable: `self.order` was validated on construction.
             Err(_) => self.clone(),
         }
@@ -254,8 +253,8 @@ impl Cyclo {
         for (k, c) in self.num.iter().enumerate() {
             poly[(n - k) % n] += c;
         }
-        match cyclotomic_cached(self.order) {
-            Ok(p) => Cyclo::normalised(self.order, reduce_mod(poly, &p), self.den.clone()),
+        match reduce_mod(poly, self.order) {
+            Ok(p) => Cyclo::normalised(self.order, p, self.den.clone()),
             Err(_) => self.clone(),
         }
     }
@@ -284,6 +283,9 @@ impl Cyclo {
         if let Some(q) = self.as_rational() {
             return Some((q, Q::zero()));
         }
+        if let Some(parts) = self.gaussian_by_product_basis() {
+            return parts;
+        }
         let m = lcm_order(self.order, 4).ok()?;
         let x = self.lift(m).ok()?;
         let c = x.conj();
@@ -297,6 +299,34 @@ impl Cyclo {
             .scale(&half)
             .as_rational()?;
         Some((re, im))
+    }
+
+    /// `gaussian_parts` in `O(n * w(n))` through [`super::tensor`] (`Q(i)` lies in
+    /// `Q(zeta_n)` only when `4 | n`, which the basis knows); `None` when the numerators are
+    /// too large for it, and the caller takes the slow route.
+    fn gaussian_by_product_basis(&self) -> Option<Option<(Q, Q)>> {
+        let acc: Vec<i128> = self
+            .num
+            .iter()
+            .map(|c| c.to_i128())
+            .collect::<Option<_>>()?;
+        let mut total: i128 = 0;
+        for c in &acc {
+            total = total.checked_add(c.checked_abs()?)?;
+        }
+        if total > super::tensor::MAX_ABS_SUM {
+            return None;
+        }
+        let basis = super::tensor::cached(self.order);
+        let mut coords = Vec::new();
+        basis.reduce(&acc, &mut coords);
+        let den = &self.den;
+        Some(basis.gaussian(&coords).map(|(re, im)| {
+            (
+                Q::new(BigInt::from(re), den.clone()),
+                Q::new(BigInt::from(im), den.clone()),
+            )
+        }))
     }
 
     /// Floating-point value (for display and tolerance work only).
@@ -321,8 +351,23 @@ impl Cyclo {
     }
 }
 
-/// Reduce an integer polynomial modulo the monic `phi`; result has length `deg(phi)`.
-pub(crate) fn reduce_mod(mut poly: Vec<BigInt>, phi: &[i64]) -> Vec<BigInt> {
+/// Reduce an integer polynomial modulo `Phi_n`; result has length `phi(n)`. Long division
+/// costs one pass over the terms of `Phi_n` per coefficient above the degree; unless that is
+/// surely cheaper than the binomial route of [`super::binomial_reduce`] (`O(n 2^w(n))`,
+/// whatever the number of terms of `Phi_n`, 5371 for 30030), the latter is used and `Phi_n`
+/// is not even built.
+pub(crate) fn reduce_mod(poly: Vec<BigInt>, n: u32) -> Result<Vec<BigInt>, ExactError> {
+    let d = euler_phi(n) as usize;
+    let rows = poly.len().saturating_sub(d) as u64;
+    if rows.saturating_mul(d as u64 + 1) > super::binomial_reduce::cost(n) {
+        return Ok(super::binomial_reduce::reduce(&poly, n));
+    }
+    let phi = cyclotomic_cached(n)?;
+    Ok(reduce_mod_long(poly, &phi))
+}
+
+/// Long division by the monic `phi`; result has length `deg(phi)`.
+pub(crate) fn reduce_mod_long(mut poly: Vec<BigInt>, phi: &[i64]) -> Vec<BigInt> {
     let d = phi.len() - 1;
     let nz: Vec<(usize, i64)> = phi[..d]
         .iter()
@@ -358,7 +403,8 @@ impl PartialEq for Cyclo {
 
 impl Eq for Cyclo {}
 
-fn fmt_gaussian(re: &Q, im: &Q) -> String {
+/// `re + im i` as text: `1/2 + 1/2i`, `-i`, `0`.
+pub(crate) fn fmt_gaussian(re: &Q, im: &Q) -> String {
     let im_text = |q: &Q| -> String {
         if q.is_one() {
             "i".to_string()
@@ -390,35 +436,50 @@ impl fmt::Display for Cyclo {
         if let Some((re, im)) = self.gaussian_parts() {
             return f.write_str(&fmt_gaussian(&re, &im));
         }
-        let n = self.order;
-        let mut first = true;
-        for (k, c) in self.coeffs().iter().enumerate() {
-            if c.is_zero() {
-                continue;
-            }
-            let mag = c.abs();
-            let sign = if c.is_negative() { "-" } else { "+" };
-            if first {
-                if c.is_negative() {
-                    f.write_str("-")?;
-                }
-            } else {
-                write!(f, " {sign} ")?;
-            }
-            first = false;
-            let power = match k {
-                0 => String::new(),
-                1 => format!("z{n}"),
-                _ => format!("z{n}^{k}"),
-            };
-            match (k, mag.is_one()) {
-                (0, _) => write!(f, "{mag}")?,
-                (_, true) => f.write_str(&power)?,
-                (_, false) => write!(f, "{mag}*{power}")?,
-            }
-        }
-        Ok(())
+        f.write_str(&self.power_basis_text())
     }
+}
+
+impl Cyclo {
+    /// The power-basis text `c0 + c1*zN + ..` without the Gaussian reading of `Display`.
+    pub(crate) fn power_basis_text(&self) -> String {
+        let terms: Vec<(usize, Q)> = self
+            .coeffs()
+            .into_iter()
+            .enumerate()
+            .filter(|(_, c)| !c.is_zero())
+            .collect();
+        fmt_terms(self.order, &terms)
+    }
+}
+
+/// `sum_k c_k zN^k` as text (`1 + 2/3*z5^2 - z5^3`), terms in the given order; `0` if empty.
+pub(crate) fn fmt_terms(n: u32, terms: &[(usize, Q)]) -> String {
+    let mut s = String::new();
+    for (k, c) in terms {
+        let mag = c.abs();
+        if s.is_empty() {
+            if c.is_negative() {
+                s.push('-');
+            }
+        } else {
+            s.push_str(if c.is_negative() { " - " } else { " + " });
+        }
+        let power = match k {
+            0 => String::new(),
+            1 => format!("z{n}"),
+            _ => format!("z{n}^{k}"),
+        };
+        match (k, mag.is_one()) {
+            (0, _) => s.push_str(&mag.to_string()),
+            (_, true) => s.push_str(&power),
+            (_, false) => s.push_str(&format!("{mag}*{power}")),
+        }
+    }
+    if s.is_empty() {
+        s.push('0');
+    }
+    s
 }
 
 /// Serialised as `{"order": n, "coeffs": ["p/q", ...], "text": "..."}`: power-basis

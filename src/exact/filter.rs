@@ -2,7 +2,12 @@
 //! (phases `phi_m` in turns, weights `w_m` cyclotomic). [`ExactFilter`] puts every phase over
 //! one order `L'` (the lcm of the phase denominators and the weight orders) and every weight
 //! over one integer denominator once, so that one evaluation is an integer accumulation into a
-//! length-`L'` array and an exact reduction modulo the monic integer `Phi_L'`.
+//! length-`L'` array (a polynomial modulo `x^L' - 1`) and one pass into the product basis of
+//! [`super::tensor`]: `O(N + L' * w(L'))` integer operations per value, never a reduction
+//! modulo `Phi_L'` (whose cost grows with its number of terms, 5371 for `L' = 30030`).
+//! Values are written out exactly only as far as that stays cheap: a Gaussian rational always,
+//! the power basis up to [`POWER_BASIS_MAX_DEGREE`] terms, otherwise the collapsed sum of
+//! roots of unity the steps contribute.
 
 use std::cell::RefCell;
 
@@ -12,7 +17,8 @@ use num_integer::Integer;
 use num_traits::{One, ToPrimitive, Zero};
 
 use super::cyclo::Cyclo;
-use super::cyclotomic::{cyclotomic_cached, euler_phi, monic_low_terms, reduced_is_zero};
+use super::cyclotomic::euler_phi;
+use super::tensor::{TensorBasis, MAX_ABS_SUM};
 use super::turns::{common_denominator, reduce_turn, Turns};
 use super::{check_order, lcm_order, ExactError};
 
@@ -38,17 +44,38 @@ pub struct ExactFilter {
     weights: Weights,
     /// Common denominator of the weights' power-basis coefficients.
     den: BigInt,
-    /// Nonzero coefficients of `Phi_order` below the leading term.
-    phi_low: Vec<(usize, i128)>,
-    phi_deg: usize,
+    /// The product basis of `Q(zeta_order)` for zero tests and Gaussian readings.
+    basis: std::sync::Arc<TensorBasis>,
     weights_f: Vec<Complex64>,
 }
+
+/// A filter value as a report shows it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ShownValue {
+    /// Exact text: `re + im i` for a Gaussian rational (`1/2 + 1/2i`, `-i`, `0`); otherwise
+    /// the power basis (`c*zL^k`, `zL = exp(2 pi i/L)`) when `phi(L')` is at most
+    /// [`POWER_BASIS_MAX_DEGREE`], else the collapsed sum of the roots of unity the steps
+    /// contribute, in the same notation (exact, not canonical). `None` when that text would
+    /// have more than [`MAX_WRITTEN_TERMS`] terms (the value is still exact; show a float).
+    pub text: Option<String>,
+    /// The exact real and imaginary parts when the value is a Gaussian rational.
+    pub gaussian: Option<(super::Q, super::Q)>,
+}
+
+/// Most terms an exact non-Gaussian value is written with (longer text is not read).
+pub const MAX_WRITTEN_TERMS: usize = 24;
+
+/// Largest `phi(L')` for which a non-Gaussian value is written in the canonical power basis
+/// (at most this many terms, and a cheap reduction); above it the value is written as the
+/// collapsed sum of roots of unity, which is exact but not canonical.
+pub const POWER_BASIS_MAX_DEGREE: u32 = 64;
 
 /// Reusable accumulation buffer for [`ExactFilter::is_zero_with`] and
 /// [`ExactFilter::eval_with`]; one per thread.
 #[derive(Clone, Debug, Default)]
 pub struct Scratch {
     acc: Vec<i128>,
+    coords: Vec<i128>,
 }
 
 impl Scratch {
@@ -100,21 +127,18 @@ impl ExactFilter {
             .map(|w| w.lift(order))
             .collect::<Result<_, _>>()?;
         let weights_f = lifted.iter().map(Cyclo::to_complex).collect();
-        let (weights, den) = match monomial_form(&lifted, order) {
+        let basis = super::tensor::cached(order);
+        let (weights, den) = match monomial_form(&lifted, order, &basis) {
             Some(m) => m,
             None => general_form(&lifted)?,
         };
-        let phi = cyclotomic_cached(order)?;
-        let (phi_deg, phi_low) = monic_low_terms(&phi);
-        debug_assert_eq!(phi_deg as u32, euler_phi(order));
         Ok(ExactFilter {
             order,
             fields,
             phase_num,
             weights,
             den,
-            phi_low,
-            phi_deg,
+            basis,
             weights_f,
         })
     }
@@ -163,7 +187,8 @@ impl ExactFilter {
     }
 
     /// Fill `acc[0..L']` with the numerators of `F(b) * den` as a polynomial mod `x^L' - 1`.
-    /// Cannot overflow: construction bounded the sum of all |coefficients| by `i128::MAX`.
+    /// Cannot overflow: construction bounded the sum of all |coefficients| by
+    /// [`MAX_ABS_SUM`], which also keeps the product-basis pass inside `i128`.
     fn accumulate(&self, b: &[i64], acc: &mut Vec<i128>) {
         let l = self.order as usize;
         acc.clear();
@@ -190,15 +215,11 @@ impl ExactFilter {
     pub fn is_zero_with(&self, b: &[i64], scratch: &mut Scratch) -> Result<bool, ExactError> {
         self.check_len(b)?;
         self.accumulate(b, &mut scratch.acc);
-        let acc = &mut scratch.acc;
-        if acc.iter().all(|c| *c == 0) {
+        if scratch.acc.iter().all(|c| *c == 0) {
             return Ok(true);
         }
-        // Reduce modulo Phi_L' in checked i128; on overflow redo it with big integers.
-        match reduced_is_zero(acc, self.phi_deg, &self.phi_low) {
-            Some(zero) => Ok(zero),
-            None => Ok(self.eval(b)?.is_zero()),
-        }
+        self.basis.reduce(&scratch.acc, &mut scratch.coords);
+        Ok(TensorBasis::is_zero(&scratch.coords))
     }
 
     /// Exact test `F(b) == 0` with a per-thread buffer (safe to call from rayon workers).
@@ -209,7 +230,73 @@ impl ExactFilter {
         })
     }
 
-    /// Exact value `F(b)` in `Q(zeta_L')`, using the caller's buffer for the accumulation.
+    /// Exact test `F(b) == 1` (the kept-term condition), in the product basis.
+    pub fn is_one(&self, b: &[i64]) -> Result<bool, ExactError> {
+        // Over the common denominator `F(b) = 1` is `acc = den`; a `den` beyond `i128` cannot
+        // be reached by an accumulation bounded by `MAX_ABS_SUM`.
+        let Some(den) = self.den.to_i128() else {
+            return Ok(false);
+        };
+        SCRATCH.with(|s| {
+            let mut fresh = Scratch::new();
+            let mut guard = s.try_borrow_mut();
+            let scratch = match guard.as_mut() {
+                Ok(s) => &mut **s,
+                Err(_) => &mut fresh,
+            };
+            self.check_len(b)?;
+            self.accumulate(b, &mut scratch.acc);
+            self.basis.reduce(&scratch.acc, &mut scratch.coords);
+            Ok(self.basis.gaussian(&scratch.coords) == Some((den, 0)))
+        })
+    }
+
+    /// `F(b)` exactly, as far as that stays cheap: cost `O(N + L' * w(L'))` plus the length
+    /// of the text. See [`ShownValue`].
+    pub fn shown_value(&self, b: &[i64]) -> Result<ShownValue, ExactError> {
+        let mut scratch = Scratch::new();
+        self.check_len(b)?;
+        self.accumulate(b, &mut scratch.acc);
+        self.basis.reduce(&scratch.acc, &mut scratch.coords);
+        if let Some((re, im)) = self.basis.gaussian(&scratch.coords) {
+            let re = super::Q::new(BigInt::from(re), self.den.clone());
+            let im = super::Q::new(BigInt::from(im), self.den.clone());
+            return Ok(ShownValue {
+                text: Some(super::cyclo::fmt_gaussian(&re, &im)),
+                gaussian: Some((re, im)),
+            });
+        }
+        let text = if euler_phi(self.order) <= POWER_BASIS_MAX_DEGREE {
+            let c = self.eval_with(b, &mut scratch)?;
+            let terms = c.numerators().iter().filter(|c| !c.is_zero()).count();
+            (terms <= MAX_WRITTEN_TERMS).then(|| c.power_basis_text())
+        } else {
+            // For even L', zeta^(e + L'/2) = -zeta^e: fold the upper half (still exact).
+            let acc = &mut scratch.acc;
+            let l = acc.len();
+            if l % 2 == 0 {
+                for e in l / 2..l {
+                    acc[e - l / 2] -= std::mem::take(&mut acc[e]);
+                }
+            }
+            let terms: Vec<(usize, super::Q)> = acc
+                .iter()
+                .enumerate()
+                .filter(|(_, c)| **c != 0)
+                .map(|(k, c)| (k, super::Q::new(BigInt::from(*c), self.den.clone())))
+                .collect();
+            (terms.len() <= MAX_WRITTEN_TERMS).then(|| super::cyclo::fmt_terms(self.order, &terms))
+        };
+        Ok(ShownValue {
+            text,
+            gaussian: None,
+        })
+    }
+
+    /// Exact value `F(b)` in `Q(zeta_L')` in the power basis, using the caller's buffer for
+    /// the accumulation. Costs a reduction modulo `Phi_L'` (up to `(L' - phi(L'))` times the
+    /// number of terms of `Phi_L'` big-integer operations): use [`ExactFilter::is_zero`],
+    /// [`ExactFilter::is_one`] or [`ExactFilter::exact_text`] where they suffice.
     pub fn eval_with(&self, b: &[i64], scratch: &mut Scratch) -> Result<Cyclo, ExactError> {
         self.check_len(b)?;
         self.accumulate(b, &mut scratch.acc);
@@ -235,15 +322,17 @@ impl ExactFilter {
     }
 }
 
-/// Bound check: the sum of all |coefficients| must fit i128 so accumulation cannot overflow.
+/// Bound check: the sum of all |coefficients| must stay below [`MAX_ABS_SUM`] so neither the
+/// accumulation nor the product-basis pass can overflow `i128`.
 fn check_total<'a>(coeffs: impl Iterator<Item = &'a i128>) -> Result<(), ExactError> {
     let mut total: i128 = 0;
     for c in coeffs {
         total = c
             .checked_abs()
             .and_then(|a| total.checked_add(a))
+            .filter(|t| *t <= MAX_ABS_SUM)
             .ok_or(ExactError::Overflow {
-                what: "sum of the weights' integer coefficients (i128 accumulator)",
+                what: "sum of the weights' integer coefficients (above 2^120)",
             })?;
     }
     Ok(())
@@ -255,22 +344,39 @@ fn to_i128(x: &BigInt) -> Result<i128, ExactError> {
     })
 }
 
-/// `Some` if every weight is `r_m * zeta^s_m` with rational `r_m`.
-fn monomial_form(lifted: &[Cyclo], order: u32) -> Option<(Weights, BigInt)> {
+/// `Some` if every weight is `r_m * zeta^s_m` with rational `r_m`. A weight with one
+/// power-basis term is read directly; others are tried at the root of unity nearest their
+/// argument (and its opposite), tested exactly in the product basis (`O(L' * w(L'))` each).
+fn monomial_form(lifted: &[Cyclo], order: u32, basis: &TensorBasis) -> Option<(Weights, BigInt)> {
     let l = order as f64;
     let mut parts = Vec::with_capacity(lifted.len());
+    let (mut acc, mut coords) = (Vec::new(), Vec::new());
     for w in lifted {
         if w.is_zero() {
             parts.push((0usize, super::Q::zero()));
+            continue;
+        }
+        if let Some((k, c)) = w.single_term() {
+            parts.push((k, super::Q::new(c.clone(), w.denominator().clone())));
             continue;
         }
         let arg = w.to_complex().arg();
         let mut found = None;
         for offset in [0.0, std::f64::consts::PI] {
             let s = ((arg - offset) * l / std::f64::consts::TAU).round() as i64;
-            let s = s.rem_euclid(order as i64);
-            if let Some(r) = w.mul_root_of_unity(-s).as_rational() {
-                found = Some((s as usize, r));
+            let s = s.rem_euclid(order as i64) as usize;
+            // w * zeta^-s as a polynomial modulo x^L - 1, then rational iff only the
+            // coordinate of 1 is left.
+            acc.clear();
+            acc.resize(order as usize, 0i128);
+            for (k, c) in w.numerators().iter().enumerate() {
+                acc[(k + order as usize - s) % order as usize] = c.to_i128()?;
+            }
+            check_total(acc.iter()).ok()?;
+            basis.reduce(&acc, &mut coords);
+            if coords.iter().skip(1).all(|c| *c == 0) {
+                let r = super::Q::new(BigInt::from(coords[0]), w.denominator().clone());
+                found = Some((s, r));
                 break;
             }
         }

@@ -26,17 +26,19 @@
 //! assert_eq!(f.eval(&[1]).unwrap().to_string(), "1"); // b = 1 passes with F = 1
 //! ```
 
+mod binomial_reduce;
 pub mod cyclo;
 pub mod cyclotomic;
 pub mod filter;
 pub mod parse;
 pub mod snap;
+pub mod tensor;
 pub mod turns;
 
 pub use cyclo::{Cyclo, Q};
 pub use cyclotomic::{cyclotomic_polynomial, euler_phi};
 
-pub use filter::{ExactFilter, Scratch};
+pub use filter::{ExactFilter, Scratch, ShownValue};
 pub use parse::{
     parse_phase, parse_phase_written, parse_weight, parse_weight_written, PhaseParseError,
     PhaseUnit, PhaseValue, WeightParseError, WeightValue, WrittenPhase, WrittenWeight,

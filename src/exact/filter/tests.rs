@@ -130,15 +130,21 @@ fn input_errors() {
 }
 
 #[test]
-fn i128_overflow_in_reduction_falls_back_to_big_integers() {
-    // Phi_105 has coefficients -2 (Migotti 1883); reducing 2^126 * x^104 modulo it overflows
-    // i128, so the exact test must fall back to big integers and still answer.
+fn large_coefficients_stay_exact_or_are_refused_before_work() {
+    // Phi_105 has coefficients -2 (Migotti 1883), so 2^110 * zeta_105^104 has power-basis
+    // coefficients near 2^111: still inside the product-basis bound (absolute sum <= 2^120).
     let w = Cyclo::root_of_unity(105, 104)
         .unwrap()
-        .scale(&Q::from_integer(BigInt::from(2).pow(126u32)));
+        .scale(&Q::from_integer(BigInt::from(2).pow(110u32)));
     let f = ExactFilter::new(&[vec![t(0, 1)]], std::slice::from_ref(&w)).unwrap();
     assert!(!f.is_zero(&[0]).unwrap());
     assert_eq!(f.eval(&[0]).unwrap(), w);
+    // 2^126 cannot be reduced inside i128: refused when the filter is built, not mid-check.
+    let w = w.scale(&Q::from_integer(BigInt::from(2).pow(16u32)));
+    assert!(matches!(
+        ExactFilter::new(&[vec![t(0, 1)]], std::slice::from_ref(&w)),
+        Err(ExactError::Overflow { .. })
+    ));
 }
 
 /// Random cycle on an M grid; weights either exp(-i t.phi)/N (monomial) or random sums.
