@@ -4,7 +4,9 @@
 use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
-use pathsieve::design::{search, LatticeProblem, OutputSpec, SearchControl, SearchOutcome};
+use pathsieve::design::lattice::{
+    search, LatticeProblem, OutputSpec, SearchControl, SearchOutcome,
+};
 
 /// Every `b` in Z^m with `sum |b| <= k`, and `sum b = 0` if `zero_sum`.
 fn ball(m: usize, k: i64, zero_sum: bool) -> Vec<Vec<i64>> {
@@ -142,7 +144,7 @@ fn main() {
         let cancel = AtomicBool::new(false);
         let t0 = Instant::now();
         let verbose = std::env::var_os("DESIGN_PROGRESS").is_some();
-        let report = move |pr: pathsieve::design::Progress| {
+        let report = move |pr: pathsieve::design::lattice::Progress| {
             if verbose {
                 eprintln!(
                     "  [{:.2}s] scanning from N = {}, {} tested",

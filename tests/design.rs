@@ -5,11 +5,11 @@ mod common;
 
 use common::{exp, pulses, LADDER, TWO_LEVEL};
 use pathsieve::check::{check_cycle, CheckRequest, RejectionSource as CheckSource};
-use pathsieve::design::{is_valid, sublattices, SearchControl};
-use pathsieve::experiment_file::read_experiment;
-use pathsieve::plan::{
+use pathsieve::design::lattice::{is_valid, sublattices, SearchControl};
+use pathsieve::design::{
     design, prepare, DesignKind, DesignReport, DesignRequest, Impossibility, RejectionSource,
 };
+use pathsieve::experiment_file::read_experiment;
 use proptest::prelude::*;
 use std::sync::atomic::AtomicBool;
 
@@ -181,7 +181,7 @@ fn a_weighted_step_set_beats_every_lattice_when_only_the_two_quantum_pump_term_m
     // domain.md section 6: to cancel b = 2 (and its conjugate -2) but keep b = 0 on one field,
     // steps {0, 1/4 turn} with weights (1/2, 1/2) work, while every lattice design on the
     // 4-step grid needs 4 steps (c must divide 4 but not 2).
-    use pathsieve::plan::beyond::{search_below, weighted_cycle};
+    use pathsieve::design::weighted_stage::{search_below, weighted_cycle};
     let e = read_experiment(&common::scheme("single-pump-probe.toml")).unwrap();
     let req = DesignRequest {
         grid: Some(vec![4]),
@@ -190,7 +190,7 @@ fn a_weighted_step_set_beats_every_lattice_when_only_the_two_quantum_pump_term_m
     let mut prep = prepare(&e, &req).unwrap();
     prep.problem.rejected = vec![vec![2], vec![-2]];
     let cancel = AtomicBool::new(false);
-    let lattice = pathsieve::design::Lattice::from_generators(1, &[vec![4]]).unwrap();
+    let lattice = pathsieve::design::lattice::Lattice::from_generators(1, &[vec![4]]).unwrap();
     let (summary, found) = search_below(
         &prep,
         &lattice,

@@ -162,8 +162,8 @@ fn the_2x2_pump_probe_cycle_recovers_the_absorptive_sum_and_scales_out_n() {
 fn a_designed_cycle_recovers_every_output() {
     let exp = read_experiment(&scheme("dye-fluorescence-2d.toml")).unwrap();
     let cancel = std::sync::atomic::AtomicBool::new(false);
-    let ctl = crate::design::SearchControl::new(&cancel);
-    let r = crate::plan::design(&exp, &crate::plan::DesignRequest::default(), &ctl).unwrap();
+    let ctl = crate::design::lattice::SearchControl::new(&cancel);
+    let r = crate::design::design(&exp, &crate::design::DesignRequest::default(), &ctl).unwrap();
     let cycle = r.cycle.expect("a design");
     assert_recovers(&exp, &cycle);
     // Real fluorescence data, outputs keeping R without -R: complex, and said so.

@@ -1,91 +1,158 @@
-//! Lattice phase-cycle design: the pure mathematics of choosing a full-rank sublattice
-//! L of Z^n whose dual group is the step table of a phase cycle (domain notes,
-//! section 6). Owns the problem and outcome types, the lattice type, the plain
-//! sublattice enumerator, and the pruned exhaustive search for the minimal index.
-//!
-//! No file formats and no command-line handling live here.
-//!
-//! ```
-//! use std::sync::atomic::AtomicBool;
-//! use pathsieve::design::{search, LatticeProblem, OutputSpec, SearchControl, SearchOutcome};
-//! // One cycled field: keep b = 0, cancel b = 2. Every lattice design needs 3 steps.
-//! let problem = LatticeProblem {
-//!     dims: 1,
-//!     grid: vec![0],
-//!     outputs: vec![OutputSpec { name: "keep".into(), kept: vec![vec![0]] }],
-//!     rejected: vec![vec![2]],
-//!     max_steps: 100,
-//!     max_phases_per_field: None,
-//! };
-//! let cancel = AtomicBool::new(false);
-//! match search(&problem, &SearchControl::new(&cancel)).unwrap() {
-//!     SearchOutcome::Found(d) => assert_eq!(d.steps, 3),
-//!     other => panic!("{other:?}"),
-//! }
-//! ```
+//! The designer: from an experiment and a request to a finished, minimal phase cycle with
+//! its report. The pure mathematics lives in two submodules kept apart from the pipeline:
+//! [`lattice`] (Hermite-normal-form lattices and the pruned exhaustive search for the minimal
+//! index) and [`weighted`] (exhaustive search over weighted step sets with exact cyclotomic
+//! certificates). The pipeline prepares the problem ([`prepare`]), runs the lattice search,
+//! chooses among equal-length designs ([`choice`]), compares with the nested and cogwheel
+//! cycles ([`yardsticks`]), tries shorter weighted step sets ([`weighted_stage`]) and builds the
+//! cycle ([`to_cycle`]).
 
-#![allow(clippy::needless_range_loop)] // dense index arithmetic reads better with indices
+pub mod choice;
+pub mod lattice;
+mod prepare;
+mod report;
+pub mod to_cycle;
+pub mod weighted;
+pub mod weighted_stage;
+pub mod yardsticks;
 
-mod classify;
-mod engine;
-pub mod enumerate;
-mod group;
-mod lattice;
-mod problem;
-mod search;
-mod seed;
-#[cfg(test)]
-mod tests;
+pub use prepare::{prepare, restrict, Prepared};
+pub use report::{design, DesignKind, DesignReport};
 
-pub use enumerate::{sublattice_count, sublattices, Sublattices};
-pub use lattice::Lattice;
-pub use problem::{is_valid, LatticeProblem, OutputSpec, MAX_DIMS};
-pub use search::{
-    all_minimal, search, search_with_alternatives, Design, OutputWeights, Progress, SearchControl,
-    SearchOutcome,
-};
+use crate::error::ModelError;
+use crate::model::PathwayClass;
+use crate::signature::Signature;
+use serde::Serialize;
+use thiserror::Error;
 
-/// Errors for malformed design problems or lattice input; each names the bad value.
-#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
-pub enum DesignError {
-    /// The number of cycled fields is outside the supported range.
-    #[error("{dims} cycled fields requested; the lattice designer supports 1..={max}")]
-    BadDims {
-        /// Requested number of fields.
-        dims: usize,
-        /// Largest supported number.
-        max: usize,
+/// Where the terms to cancel come from.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum RejectionSource {
+    /// The agnostic set through the order (no level scheme needed; the safe default).
+    Agnostic,
+    /// The signatures of every enumerated pathway through the order (tighter).
+    Pathways,
+}
+
+/// What the user asks the designer for.
+#[derive(Clone, Debug)]
+pub struct DesignRequest {
+    /// Cancel everything through this order (default: the experiment's).
+    pub order: Option<u32>,
+    /// Agnostic or enumerated rejection set.
+    pub rejection: RejectionSource,
+    /// Apply the beam geometry (drop coherent terms that are not phase matched).
+    pub geometry: bool,
+    /// Phase grid: one value for all fields, or one per experiment field (0 = any phase).
+    pub grid: Option<Vec<u32>>,
+    /// Cap on the number of steps.
+    pub max_steps: u64,
+    /// Cap on distinct phases per field.
+    pub max_phases_per_field: Option<u32>,
+    /// Time budget for the search beyond lattice designs (0 = skip it).
+    pub beyond_budget: std::time::Duration,
+    /// Largest step count the beyond-lattice search tries.
+    pub beyond_max_steps: usize,
+}
+
+impl Default for DesignRequest {
+    fn default() -> Self {
+        DesignRequest {
+            order: None,
+            rejection: RejectionSource::Agnostic,
+            geometry: true,
+            grid: None,
+            max_steps: 4096,
+            max_phases_per_field: None,
+            beyond_budget: std::time::Duration::from_secs(2),
+            beyond_max_steps: 4,
+        }
+    }
+}
+
+/// A request no phase cycle can meet, with the reason in words.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+#[serde(rename_all = "kebab-case", tag = "kind")]
+pub enum Impossibility {
+    /// Pathways of an unwanted class share a kept signature.
+    Contaminated {
+        /// Output name.
+        output: String,
+        /// The kept signature.
+        kept: Signature,
+        /// The unwanted class.
+        class: PathwayClass,
+        /// True when they arrive as complex conjugates.
+        via_conjugate: bool,
+        /// Why, and what would separate them.
+        explanation: String,
     },
-    /// A signature or grid vector has the wrong number of entries.
-    #[error("a vector has {found} entries but the problem has {expected} cycled fields")]
-    WrongLength {
-        /// Expected length.
-        expected: usize,
-        /// Length found.
-        found: usize,
+    /// A rejected term differs from a kept one only on fixed-phase fields.
+    FixedFields {
+        /// Output name.
+        output: String,
+        /// The kept signature.
+        kept: Signature,
+        /// The rejected signature.
+        rejected: Signature,
+        /// The fixed fields; cycling one of them would separate the terms.
+        fields: Vec<String>,
     },
-    /// An output lists no kept signature.
-    #[error("output {0:?} keeps no signature; give at least its reference signature")]
-    EmptyOutput(String),
-    /// The problem has no outputs.
-    #[error("no outputs given; list at least one kept signature")]
-    NoOutputs,
-    /// A signature entry is too large for exact lattice arithmetic.
-    #[error("signature entry {0} exceeds the limit of 1e6 in magnitude")]
-    EntryTooLarge(i64),
-    /// `max_steps` is zero or beyond the supported limit.
-    #[error("max_steps = {0} is outside 1..=10000000")]
-    BadMaxSteps(u64),
-    /// A number overflowed the integer type used.
-    #[error("{0} is too large for exact arithmetic")]
-    TooLarge(&'static str),
-    /// Given rows are not a Hermite normal form of the documented shape.
-    #[error("not a lower-triangular Hermite normal form: {0}")]
-    NotHnf(String),
-    /// Generators do not span a full-rank lattice.
-    #[error("the generators do not span a full-rank lattice in Z^{dims}; add independent vectors")]
-    NotFullRank {
-        /// Ambient dimension.
-        dims: usize,
+    /// A rejected term equals a kept one modulo the phase grid.
+    Aliased {
+        /// Output name.
+        output: String,
+        /// The rejected signature over the cycled fields.
+        rejected: Vec<i64>,
+        /// A grid (steps per turn, one per experiment field) on which nothing aliases.
+        finer_grid: Vec<u32>,
     },
+}
+
+impl Impossibility {
+    /// One sentence for people.
+    pub fn describe(&self) -> String {
+        match self {
+            Impossibility::Contaminated { output, kept, explanation, .. } => {
+                format!("output `{output}` keeps {kept}, but {explanation}")
+            }
+            Impossibility::FixedFields { output, kept, rejected, fields } => format!(
+                "output `{output}`: {rejected} differs from the kept {kept} only on the fixed field(s) {}; no cycle with those phases fixed separates them — make one of them cycled",
+                fields.join(", ")
+            ),
+            Impossibility::Aliased { output, rejected, finer_grid } if !finer_grid.is_empty() => format!(
+                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals the kept one modulo the phase grid; a grid on which nothing aliases: `--grid {}` (steps per turn, one per field)",
+                finer_grid.iter().map(|g| g.to_string()).collect::<Vec<_>>().join(",")
+            ),
+            Impossibility::Aliased { output, rejected, .. } => format!(
+                "output `{output}`: the rejected term {rejected:?} (cycled fields) equals a kept one; no phase cycle separates them"
+            ),
+        }
+    }
+}
+
+/// Errors of the designer front end.
+#[derive(Debug, Error)]
+pub enum PlanError {
+    /// The experiment has no `[[signal]]`.
+    #[error("the experiment lists no wanted signal: add a [[signal]] table with `classes` or `signatures`")]
+    NoSignals,
+    /// Every field is fixed.
+    #[error(
+        "no field has a cycled phase: set `phase = \"cycled\"` on the pulses the shaper controls"
+    )]
+    NothingCycled,
+    /// Bad grid request.
+    #[error("{0}")]
+    BadGrid(String),
+    /// From the model.
+    #[error(transparent)]
+    Model(#[from] ModelError),
+    /// From the lattice search.
+    #[error(transparent)]
+    Design(#[from] lattice::DesignError),
+    /// From exact arithmetic.
+    #[error(transparent)]
+    Exact(#[from] crate::exact::ExactError),
 }

@@ -19,7 +19,7 @@ use num_rational::Ratio;
 use rayon::prelude::*;
 
 use super::engine::{order_key, Engine, Sink};
-use super::lattice::Lattice;
+use super::hnf::Lattice;
 use super::problem::{normalise, LatticeProblem, Reduced};
 use super::seed::{korobov_seed, nested_seed};
 use super::DesignError;

@@ -3,7 +3,7 @@
 //! order above the requested one at which a lattice design starts to leak.
 
 use crate::agnostic::agnostic_set;
-use crate::design::{Lattice, LatticeProblem};
+use crate::design::lattice::{Lattice, LatticeProblem};
 use crate::model::Experiment;
 use crate::signature::Signature;
 use num_integer::Integer;

@@ -2,7 +2,7 @@
 //! per field first, then the lowest leakage under a phase-calibration error. The step order
 //! against slow drift is chosen by [`crate::export::step_order::drift_order_for`].
 
-use crate::design::Lattice;
+use crate::design::lattice::Lattice;
 use num_complex::Complex64;
 use num_rational::Ratio;
 use std::f64::consts::PI;

@@ -4,7 +4,7 @@
 //! This enumerator is deliberately simple and independent of the pruned search; the
 //! tests use it as the brute-force reference.
 
-use super::lattice::Lattice;
+use super::hnf::Lattice;
 
 /// All ordered factorisations `d_1 * ... * d_n = index` (each `d_i >= 1`).
 pub fn diagonals(dims: usize, index: u64) -> Vec<Vec<u64>> {

@@ -4,7 +4,7 @@
 
 use super::{DesignRequest, Impossibility, PlanError, RejectionSource};
 use crate::agnostic::agnostic_set;
-use crate::design::{LatticeProblem, OutputSpec};
+use crate::design::lattice::{LatticeProblem, OutputSpec};
 use crate::model::{Detection, Experiment, PathwayClass, PhaseControl};
 use crate::pathways::{for_each_pathway, resolve_signals, ResolvedSignal, Scope};
 use crate::signature::Signature;

@@ -2,7 +2,7 @@
 //! validation, and its reduction to difference vectors: the forbidden set that must
 //! stay outside the lattice and the required set that must lie in it.
 
-use super::lattice::Lattice;
+use super::hnf::Lattice;
 use super::DesignError;
 
 /// Largest number of cycled fields the designer accepts.

@@ -1,11 +1,11 @@
 //! The designer's search beyond lattice designs: weighted step sets on the grid with free
-//! complex weights ([`crate::design_beyond`]), run below the lattice optimum to see whether a
+//! complex weights ([`crate::design::weighted`]), run below the lattice optimum to see whether a
 //! shorter cycle exists, with its exhaustive certificate reported as such.
 
 use super::Prepared;
 use crate::cycle::{Cycle, CycleMeta, CycleOutput, Phase, Weight, WeightSource};
-use crate::design::Lattice;
-use crate::design_beyond::{search_beyond, BeyondDesign, BeyondError, BeyondProblem};
+use crate::design::lattice::Lattice;
+use crate::design::weighted::{search_beyond, BeyondDesign, BeyondError, BeyondProblem};
 use crate::model::Experiment;
 use num_rational::Ratio;
 use serde::Serialize;
@@ -81,7 +81,7 @@ pub fn search_below(
     }
     let mut n = max_steps
         .min((lattice_steps - 1) as usize)
-        .min(crate::design_beyond::MAX_BEYOND_STEPS);
+        .min(crate::design::weighted::MAX_BEYOND_STEPS);
     let outputs: Vec<(String, Vec<i64>)> = p
         .outputs
         .iter()

@@ -4,7 +4,7 @@
 
 use super::engine::Engine;
 use super::group::gcd;
-use super::lattice::Lattice;
+use super::hnf::Lattice;
 
 const NESTED_BUDGET: u64 = 20_000_000;
 const KOROBOV_BUDGET: u64 = 3_000_000;

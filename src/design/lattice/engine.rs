@@ -15,7 +15,7 @@
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 
 use super::group::{extend, gcd, Presented};
-use super::lattice::Lattice;
+use super::hnf::Lattice;
 use super::problem::top;
 
 /// Constraints sorted by the level at which they become decidable.

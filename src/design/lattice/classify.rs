@@ -3,7 +3,7 @@
 //! (Levitt, Madhu & Hughes, J. Magn. Reson. 155, 300 (2002)).
 
 use super::group::gcd;
-use super::lattice::Lattice;
+use super::hnf::Lattice;
 
 impl Lattice {
     /// `Some(c)` if the lattice is `c_1 Z x ... x c_n Z` (a nested cycle with `c_j`

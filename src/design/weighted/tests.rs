@@ -306,7 +306,7 @@ proptest! {
     }
 }
 
-/// Manual timing check (`cargo test --lib design_beyond::tests::timing -- --ignored
+/// Manual timing check (`cargo test --lib design::weighted::tests::timing -- --ignored
 /// --nocapture`): three pump fields on a 4x4x4 grid, rephasing kept, every other signature
 /// in {-1, 0, 1}^3 rejected. Not part of the fast suite.
 #[test]

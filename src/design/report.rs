@@ -2,13 +2,13 @@
 //! choice among equal-length designs, the step order, the yardsticks (nested, cogwheel), the
 //! first leak order and a one-paragraph summary.
 
-use super::beyond::{search_below, weighted_cycle, BeyondSummary};
-use super::choose::{pick, score};
-use super::compare::{first_leak_order, min_cogwheel, CogwheelScan};
+use super::choice::{pick, score};
 use super::to_cycle::lattice_cycle;
+use super::weighted_stage::{search_below, weighted_cycle, BeyondSummary};
+use super::yardsticks::{first_leak_order, min_cogwheel, CogwheelScan};
 use super::{prepare, DesignRequest, Impossibility, PlanError, RejectionSource};
 use crate::cycle::{Cycle, CycleMeta};
-use crate::design::{search_with_alternatives, Lattice, SearchControl, SearchOutcome};
+use crate::design::lattice::{search_with_alternatives, Lattice, SearchControl, SearchOutcome};
 use crate::model::Experiment;
 use crate::signature::Signature;
 use serde::Serialize;
@@ -429,7 +429,7 @@ fn lift_all_aliasing(
         let mut p = prep.problem.clone();
         p.grid = grid.clone();
         p.max_steps = 1;
-        match crate::design::search(&p, ctl) {
+        match crate::design::lattice::search(&p, ctl) {
             Ok(SearchOutcome::Aliased {
                 finer_grid_hint, ..
             }) => {
