@@ -166,3 +166,168 @@ fn an_enumeration_that_would_run_for_hours_is_refused_before_work() {
     assert!(err.contains("above the limit"), "{err}");
     assert!(started.elapsed().as_secs() < 10, "refused up front");
 }
+
+/// A JSON value read with every object's keys checked for repeats (serde_json's own `Value`
+/// keeps the last of two equal keys silently).
+struct NoDuplicateKeys;
+
+impl<'de> serde::Deserialize<'de> for NoDuplicateKeys {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(NoDuplicateKeys)
+    }
+}
+
+impl<'de> serde::de::Visitor<'de> for NoDuplicateKeys {
+    type Value = NoDuplicateKeys;
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("any JSON value")
+    }
+    fn visit_bool<E>(self, _: bool) -> Result<Self::Value, E> {
+        Ok(self)
+    }
+    fn visit_i64<E>(self, _: i64) -> Result<Self::Value, E> {
+        Ok(self)
+    }
+    fn visit_u64<E>(self, _: u64) -> Result<Self::Value, E> {
+        Ok(self)
+    }
+    fn visit_f64<E>(self, _: f64) -> Result<Self::Value, E> {
+        Ok(self)
+    }
+    fn visit_str<E>(self, _: &str) -> Result<Self::Value, E> {
+        Ok(self)
+    }
+    fn visit_unit<E>(self) -> Result<Self::Value, E> {
+        Ok(self)
+    }
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut a: A) -> Result<Self::Value, A::Error> {
+        while a.next_element::<NoDuplicateKeys>()?.is_some() {}
+        Ok(self)
+    }
+    fn visit_map<A: serde::de::MapAccess<'de>>(self, mut a: A) -> Result<Self::Value, A::Error> {
+        let mut seen = std::collections::BTreeSet::new();
+        while let Some(key) = a.next_key::<String>()? {
+            if !seen.insert(key.clone()) {
+                return Err(serde::de::Error::custom(format!("duplicate key `{key}`")));
+            }
+            a.next_value::<NoDuplicateKeys>()?;
+        }
+        Ok(self)
+    }
+}
+
+#[test]
+fn the_duplicate_key_reader_catches_a_repeated_key() {
+    // Guard for the test below: the reader must refuse what serde_json's Value accepts.
+    let text = r#"{"a": 1, "b": [{"c": 2, "c": 3}]}"#;
+    assert!(serde_json::from_str::<serde_json::Value>(text).is_ok());
+    let err = serde_json::from_str::<NoDuplicateKeys>(text).err().unwrap();
+    assert!(err.to_string().contains("duplicate key `c`"), "{err}");
+}
+
+#[test]
+fn pathway_json_objects_have_unique_keys_with_labels_beside_indices() {
+    let p = common::scheme("ladder-heterodyne.toml");
+    let (code, out, err) = run(&["pathways", p.to_str().unwrap(), "--json", "--conjugates"]);
+    assert_eq!(code, 0, "{err}");
+    serde_json::from_str::<NoDuplicateKeys>(&out).unwrap_or_else(|e| panic!("{e}"));
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let first = &v["pathways"][0];
+    // Elements as state indices under the pathway's names, as labels under their own.
+    assert!(first["delays"][0]["ket"].is_u64(), "{first}");
+    assert!(first["final_element"]["bra"].is_u64(), "{first}");
+    assert!(first["delay_labels"][0].as_str().unwrap().starts_with('|'));
+    assert!(first["final_label"].as_str().unwrap().starts_with('|'));
+}
+
+#[test]
+fn select_takes_a_signature_with_a_leading_minus() {
+    // Hamm & Zanni, Concepts and Methods of 2D IR Spectroscopy (2011), ch. 4 (memory): the
+    // ladder's rephasing signature (-1,+1,+1) carries three pathways (GSB, SE, ESA).
+    let p = common::scheme("ladder-heterodyne.toml");
+    let (code, out, err) = run(&[
+        "pathways",
+        p.to_str().unwrap(),
+        "--select",
+        "-1,1,1,-1",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let rows = v["pathways"].as_array().unwrap();
+    assert_eq!(rows.len(), 3);
+    for r in rows {
+        assert_eq!(r["signature"], serde_json::json!([-1, 1, 1, -1]));
+    }
+}
+
+#[test]
+fn select_with_conjugates_filters_on_the_listed_partner_signature() {
+    // The conjugate of rephasing (-1,+1,+1,-1) is (+1,-1,-1,+1): asking for it with
+    // --conjugates lists the three R partners, and nothing whose own signature differs.
+    let p = common::scheme("ladder-heterodyne.toml");
+    let file = p.to_str().unwrap();
+    let (code, out, err) = run(&[
+        "pathways",
+        file,
+        "--select",
+        "1,-1,-1,1",
+        "--conjugates",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let rows = v["pathways"].as_array().unwrap();
+    assert_eq!(rows.len(), 3);
+    for r in rows {
+        assert_eq!(r["signature"], serde_json::json!([1, -1, -1, 1]));
+        assert_eq!(r["conjugate"], true);
+        assert_eq!(r["class"], "rephasing");
+    }
+    // Without --conjugates no pathway has that signature.
+    let (code, out, err) = run(&["pathways", file, "--select", "1,-1,-1,1", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["pathways"].as_array().unwrap().len(), 0);
+}
+
+#[test]
+fn conjugate_weight_sums_match_the_listed_pathways() {
+    // Mukamel, Principles of Nonlinear Optical Spectroscopy (1995), ch. 6 (memory): the
+    // mirror image of an n-th order diagram has sign (-1)^n times the original's, so at third
+    // order each conjugate signature sums to minus its partner's weight.
+    let p = common::scheme("ladder-heterodyne.toml");
+    let (code, out, err) = run(&["pathways", p.to_str().unwrap(), "--conjugates", "--json"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let mut listed: std::collections::BTreeMap<String, f64> = Default::default();
+    for r in v["pathways"].as_array().unwrap() {
+        *listed.entry(r["signature"].to_string()).or_default() += r["weight"].as_f64().unwrap();
+    }
+    let sums: std::collections::BTreeMap<String, f64> = v["summary"]["signatures"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| {
+            (
+                s["signature"].to_string(),
+                s["weight_sum"].as_f64().unwrap(),
+            )
+        })
+        .collect();
+    assert_eq!(sums.len(), 6);
+    for (sig, w) in &sums {
+        assert!(
+            (listed[sig] - w).abs() < 1e-12,
+            "{sig}: listed {} summary {w}",
+            listed[sig]
+        );
+        let partner: Vec<i64> = serde_json::from_str::<Vec<i64>>(sig)
+            .unwrap()
+            .iter()
+            .map(|b| -b)
+            .collect();
+        let partner = serde_json::to_string(&partner).unwrap();
+        assert!((sums[&partner] + w).abs() < 1e-12, "{sig} vs {partner}");
+    }
+}

@@ -9,7 +9,7 @@ use pathsieve::check::CheckRequest;
 use pathsieve::cycle::read_cycle;
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::limits::MAX_LISTED_PATHWAYS;
-use pathsieve::pathways::{self, for_each_pathway, Pathway, Scope};
+use pathsieve::pathways::{for_each_row, Pathway, Scope};
 use pathsieve::render::{diagram_svg, leakage, leakage_svg, wheels_svg};
 use pathsieve::safe_write::write_atomic;
 use std::path::PathBuf;
@@ -95,19 +95,15 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
                 _ => bail!("give --signature B (e.g. -1,1,1,-1) or --class R|NR|2Q|GSB|SE|ESA"),
             };
             let sel = Selector::parse(&spec, &exp)?;
-            let add_conj = conjugates && pathways::needs_conjugate_rows(&exp);
             let mut rows: Vec<Pathway> = Vec::new();
             let mut too_many = false;
-            for_each_pathway(&exp, Scope::Signal, |p| {
+            for_each_row(&exp, Scope::Signal, conjugates, |p| {
                 if sel.keeps(p) {
                     if rows.len() as u64 >= MAX_LISTED_PATHWAYS {
                         too_many = true;
                         return;
                     }
                     rows.push(p.clone());
-                    if add_conj {
-                        rows.push(p.conjugated());
-                    }
                 }
             });
             if too_many {

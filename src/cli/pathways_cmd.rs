@@ -6,7 +6,7 @@ use clap::Args;
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::limits::MAX_LISTED_PATHWAYS;
 use pathsieve::model::{Experiment, PathwayClass};
-use pathsieve::pathways::{self, for_each_pathway, resolve_signals, summarize, Pathway, Scope};
+use pathsieve::pathways::{self, for_each_row, resolve_signals, summarize, Pathway, Scope};
 use pathsieve::render::{self, diagram_svg, diagram_text};
 use pathsieve::signature::Signature;
 use serde::Serialize;
@@ -31,8 +31,8 @@ pub struct PathwaysArgs {
     #[arg(long)]
     conjugates: bool,
     /// Keep only pathways of a class (R, NR, 2Q, other, GSB, SE, ESA) or with a signature
-    /// such as `-1,1,1,-1`.
-    #[arg(long, value_name = "SPEC")]
+    /// such as `-1,1,1,-1` (with --conjugates, the listed partner's own signature counts).
+    #[arg(long, value_name = "SPEC", allow_hyphen_values = true)]
     select: Option<String>,
     /// Print a text diagram of each listed pathway.
     #[arg(long)]
@@ -102,11 +102,13 @@ struct Report<'a> {
     wanted: Vec<pathways::ResolvedSignal>,
 }
 
+/// One listed pathway in JSON: the pathway's own fields (`delays` and `final_element` as
+/// state indices) and, under names of their own, the same elements as labels.
 #[derive(Serialize)]
 struct PathwayRow {
     sequence: String,
-    delays: Vec<String>,
-    final_element: String,
+    delay_labels: Vec<String>,
+    final_label: String,
     direction: String,
     #[serde(flatten)]
     pathway: Pathway,
@@ -142,30 +144,17 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
     let listing = !a.summary || a.svg.is_some();
     let mut rows: Vec<Pathway> = Vec::new();
     if listing {
+        let kept = |p: &Pathway| selector.as_ref().is_none_or(|s| s.keeps(p));
         let mut count = 0u64;
-        for_each_pathway(&exp, scope, |p| {
-            if selector.as_ref().is_none_or(|s| s.keeps(p)) {
-                count += 1;
-            }
-        });
-        let factor = if a.conjugates && pathways::needs_conjugate_rows(&exp) {
-            2
-        } else {
-            1
-        };
-        if count * factor > MAX_LISTED_PATHWAYS {
+        for_each_row(&exp, scope, a.conjugates, |p| count += u64::from(kept(p)));
+        if count > MAX_LISTED_PATHWAYS {
             bail!(
-                "{} pathways would be listed, above the listing limit of {MAX_LISTED_PATHWAYS}; use --summary (streams), or --select to narrow",
-                count * factor
+                "{count} pathways would be listed, above the listing limit of {MAX_LISTED_PATHWAYS}; use --summary (streams), or --select to narrow"
             );
         }
-        let add_conj = a.conjugates && pathways::needs_conjugate_rows(&exp);
-        for_each_pathway(&exp, scope, |p| {
-            if selector.as_ref().is_none_or(|s| s.keeps(p)) {
+        for_each_row(&exp, scope, a.conjugates, |p| {
+            if kept(p) {
                 rows.push(p.clone());
-                if add_conj {
-                    rows.push(p.conjugated());
-                }
             }
         });
     }
@@ -191,12 +180,12 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
             rows.iter()
                 .map(|p| PathwayRow {
                     sequence: render::sequence_label(&exp, p),
-                    delays: p
+                    delay_labels: p
                         .delays
                         .iter()
                         .map(|e| render::element_label(&exp, e))
                         .collect(),
-                    final_element: render::element_label(&exp, &p.final_element),
+                    final_label: render::element_label(&exp, &p.final_element),
                     direction: exp.signal_direction(&p.signature),
                     pathway: p.clone(),
                 })

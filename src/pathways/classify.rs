@@ -1,83 +1,77 @@
 //! Pathway classes: rephasing / non-rephasing / double-quantum from the coherences in the
-//! delays, and GSB / SE / ESA from the waiting-time population (conventions in
+//! delays, and GSB / SE / ESA from the first delay that holds a population (conventions in
 //! `docs/conventions.md`).
 
 use super::{Element, Interaction};
 use crate::model::{Detection, LevelScheme, PathwayClass, PopulationClass};
 
-/// Fill `out` with the element in each delay: after the last interaction of each pulse block
-/// (time-ordered pulses) or after every interaction (overlapping pulses).
-pub(super) fn delay_elements(
-    interactions: &[Interaction],
-    elements: &[Element],
-    overlap: bool,
-    out: &mut Vec<Element>,
-) {
-    out.clear();
-    for (i, e) in elements.iter().enumerate() {
+/// Fill `ends` with the index (into the element list) of the element held in each delay:
+/// after the last interaction of each pulse block, where the next interaction belongs to
+/// another field (time-ordered pulses), or after every interaction (overlapping pulses).
+pub(super) fn delay_ends(interactions: &[Interaction], overlap: bool, ends: &mut Vec<usize>) {
+    ends.clear();
+    for i in 0..interactions.len() {
         let block_ends = overlap
             || i + 1 == interactions.len()
             || interactions[i + 1].field != interactions[i].field;
         if block_ends {
-            out.push(*e);
+            ends.push(i);
         }
     }
 }
 
-/// Classify a pathway from its delay elements.
+/// Classify a pathway from its elements and the indices of the elements held in its delays.
 ///
 /// With `d_k` the excitation difference (ket manifold minus bra manifold) in delay `k`, and
 /// three delays before detection: double-quantum when `|d_1| = 1` and `d_2 = 2 d_1`;
 /// rephasing when `d_2 = 0` and `d_3 = -d_1`; non-rephasing when `d_2 = 0` and `d_3 = d_1`.
+/// The population class comes from the first delay with `d_k = 0`, whatever the coherence
+/// class (a double-quantum pathway can hold a population in a later delay): GSB in the ground
+/// manifold, ESA when a higher manifold is reached afterwards, SE otherwise.
 /// The rule is invariant under complex conjugation, so a pathway and its partner share a class.
 pub(super) fn classify(
     levels: &LevelScheme,
-    delays: &[Element],
     elements: &[Element],
+    ends: &[usize],
     detection: &Detection,
 ) -> (PathwayClass, Option<PopulationClass>) {
     let diff = |e: &Element| i64::from(levels.manifold(e.ket)) - i64::from(levels.manifold(e.bra));
-    let mut d: Vec<i64> = delays.iter().map(diff).collect();
-    let mut waiting_candidates = delays.to_vec();
+    let mut ends = ends;
     if matches!(detection, Detection::Population) {
         // The final population is the detected quantity, not a delay of the response.
-        d.pop();
-        waiting_candidates.pop();
+        ends = &ends[..ends.len().saturating_sub(1)];
     }
-    let class = if d.len() == 3 && d[0].abs() == 1 {
-        if d[1] == 2 * d[0] {
-            PathwayClass::DoubleQuantum
-        } else if d[1] == 0 && d[2] == -d[0] {
-            PathwayClass::Rephasing
-        } else if d[1] == 0 && d[2] == d[0] {
-            PathwayClass::NonRephasing
-        } else {
-            PathwayClass::Other
-        }
-    } else {
-        PathwayClass::Other
-    };
-    if class == PathwayClass::DoubleQuantum {
-        return (class, None);
-    }
-    let waiting = d
-        .iter()
-        .position(|&x| x == 0)
-        .map(|w| waiting_candidates[w]);
-    let pop = waiting.map(|w| {
-        let m = levels.manifold(w.ket);
+    let d: Vec<i64> = ends.iter().map(|&i| diff(&elements[i])).collect();
+    let class = coherence_class(&d);
+    let pop = d.iter().position(|&x| x == 0).map(|k| {
+        let at = ends[k];
+        let m = levels.manifold(elements[at].ket);
+        let higher_afterwards = elements[at + 1..]
+            .iter()
+            .any(|e| levels.manifold(e.ket) > m || levels.manifold(e.bra) > m);
         if m == 0 {
             PopulationClass::Gsb
+        } else if higher_afterwards {
+            PopulationClass::Esa
         } else {
-            let higher = elements
-                .iter()
-                .any(|e| levels.manifold(e.ket) > m || levels.manifold(e.bra) > m);
-            if higher {
-                PopulationClass::Esa
-            } else {
-                PopulationClass::Se
-            }
+            PopulationClass::Se
         }
     });
     (class, pop)
+}
+
+/// R / NR / 2Q / other from the excitation differences in the delays.
+fn coherence_class(d: &[i64]) -> PathwayClass {
+    if d.len() != 3 || d[0].abs() != 1 {
+        return PathwayClass::Other;
+    }
+    if d[1] == 2 * d[0] {
+        PathwayClass::DoubleQuantum
+    } else if d[1] == 0 && d[2] == -d[0] {
+        PathwayClass::Rephasing
+    } else if d[1] == 0 && d[2] == d[0] {
+        PathwayClass::NonRephasing
+    } else {
+        PathwayClass::Other
+    }
 }

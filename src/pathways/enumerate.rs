@@ -1,7 +1,7 @@
 //! The streaming pathway enumerator: a depth-first walk over field interactions that hands each
 //! detected pathway to a visitor, reusing one buffer, so memory does not grow with the count.
 
-use super::classify::{classify, delay_elements};
+use super::classify::{classify, delay_ends};
 use super::nmr;
 use super::{Direction, Element, Interaction, Pathway, Side};
 use crate::model::{Detection, Experiment, LevelScheme, PathwayClass};
@@ -31,6 +31,8 @@ struct Walker<'a, F: FnMut(&Pathway)> {
     ket: usize,
     bra: usize,
     amplitude: f64,
+    /// Reused buffer: the index of the element held in each delay.
+    ends: Vec<usize>,
 }
 
 /// Call `visit` for every detected pathway of `exp` in `scope`, in a deterministic order.
@@ -77,8 +79,28 @@ pub fn for_each_pathway<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visi
         ket: levels.ground,
         bra: levels.ground,
         amplitude: 1.0,
+        ends: Vec::with_capacity(max_depth as usize),
     };
     walker.descend(0);
+}
+
+/// Call `visit` for every row of a listing: each detected pathway, followed by its
+/// complex-conjugate partner when `conjugates` is set and the detection lists only the
+/// positive-frequency half ([`super::needs_conjugate_rows`]). Each row carries its own
+/// signature, sign and weight, so a filter applied to the rows sees what is listed.
+pub fn for_each_row<F: FnMut(&Pathway)>(
+    exp: &Experiment,
+    scope: Scope,
+    conjugates: bool,
+    mut visit: F,
+) {
+    let add_conjugates = conjugates && super::needs_conjugate_rows(exp);
+    for_each_pathway(exp, scope, |p| {
+        visit(p);
+        if add_conjugates {
+            visit(&p.conjugated());
+        }
+    });
 }
 
 /// Count the detected pathways without keeping any.
@@ -235,18 +257,13 @@ impl<'a, F: FnMut(&Pathway)> Walker<'a, F> {
             bra: self.bra,
         };
         self.path.weight = f64::from(self.path.sign) * self.amplitude * detected_factor;
-        delay_elements(
-            &self.path.interactions,
-            &self.path.elements,
-            exp.overlap,
-            &mut self.path.delays,
-        );
-        let (class, pop) = classify(
-            levels,
-            &self.path.delays,
-            &self.path.elements,
-            &exp.detection,
-        );
+        delay_ends(&self.path.interactions, exp.overlap, &mut self.ends);
+        self.path.delays.clear();
+        let elements = &self.path.elements;
+        self.path
+            .delays
+            .extend(self.ends.iter().map(|&i| elements[i]));
+        let (class, pop) = classify(levels, elements, &self.ends, &exp.detection);
         self.path.class = if exp.swap_rnr_labels {
             match class {
                 PathwayClass::Rephasing => PathwayClass::NonRephasing,

@@ -8,7 +8,7 @@ mod resolve;
 mod size;
 mod summary;
 
-pub use enumerate::{count_pathways, for_each_pathway, Scope};
+pub use enumerate::{count_pathways, for_each_pathway, for_each_row, Scope};
 pub use resolve::{coherence_signature, resolve_signals, Contamination, ResolvedSignal};
 pub use size::{check_size, pathway_bound, MAX_VISITED_PATHWAYS};
 pub use summary::{needs_conjugate_rows, summarize, SignatureSummary, Summary};
@@ -102,6 +102,26 @@ pub struct Pathway {
 }
 
 impl Pathway {
+    /// The sign of the complex-conjugate partner: `(-1)^(bra interactions of the partner)`,
+    /// i.e. of this pathway's ket interactions.
+    pub fn conjugate_sign(&self) -> i8 {
+        let kets = self
+            .interactions
+            .iter()
+            .filter(|i| i.side == Side::Ket)
+            .count();
+        if kets % 2 == 0 {
+            1
+        } else {
+            -1
+        }
+    }
+
+    /// The weight of the complex-conjugate partner: the same amplitude with the partner's sign.
+    pub fn conjugate_weight(&self) -> f64 {
+        self.weight * f64::from(self.conjugate_sign()) * f64::from(self.sign)
+    }
+
     /// The complex-conjugate partner: every interaction moved to the other side, signature
     /// negated. Used for emission-type detection where the enumerator lists only the
     /// positive-frequency half.
@@ -114,12 +134,6 @@ impl Pathway {
             ket: e.bra,
             bra: e.ket,
         };
-        let bra_count = self
-            .interactions
-            .iter()
-            .filter(|i| i.side == Side::Ket)
-            .count();
-        let new_sign: i8 = if bra_count % 2 == 0 { 1 } else { -1 };
         Pathway {
             interactions: self
                 .interactions
@@ -132,11 +146,11 @@ impl Pathway {
             elements: self.elements.iter().map(flip).collect(),
             delays: self.delays.iter().map(flip).collect(),
             signature: self.signature.conjugate(),
-            sign: new_sign,
+            sign: self.conjugate_sign(),
             class: self.class,
             population_class: self.population_class,
             final_element: flip(&self.final_element),
-            weight: self.weight * f64::from(new_sign) * f64::from(self.sign),
+            weight: self.conjugate_weight(),
             coherence_orders: self.coherence_orders.iter().map(|p| -p).collect(),
             conjugate: !self.conjugate,
         }

@@ -64,7 +64,7 @@ pub fn summarize(
             entry.1 += 1;
         }
         *entry.2.entry(p.class).or_insert(0) += 1;
-        entry.3 += p.weight;
+        entry.3 += if conj { p.conjugate_weight() } else { p.weight };
     };
     for_each_pathway(exp, scope, |p| {
         add(p, false);
