@@ -44,10 +44,10 @@ fn main() {
     ] {
         let e = experiment(order);
         let t = Instant::now();
-        let s = summarize(&e, scope, false, &[]);
+        let s = summarize(&e, scope, false, &[]).expect("within the size limit");
         let dt = t.elapsed().as_secs_f64();
         let t2 = Instant::now();
-        let n = count_pathways(&e, scope);
+        let n = count_pathways(&e, scope).expect("within the size limit");
         let dt2 = t2.elapsed().as_secs_f64();
         assert_eq!(n, s.total);
         println!(

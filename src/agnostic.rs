@@ -3,7 +3,7 @@
 //! `sum |b| <= K (+1 with a reference field)`.
 
 use crate::error::ModelError;
-use crate::limits::MAX_AGNOSTIC_TERMS;
+use crate::limits::{MAX_AGNOSTIC_BYTES, MAX_AGNOSTIC_TERMS};
 use crate::model::Experiment;
 use crate::signature::Signature;
 
@@ -43,35 +43,79 @@ pub fn agnostic_count(n: usize, r: u32) -> u64 {
 /// `sum |b|`, zero vector first.
 pub fn sum_zero_ball(n: usize, radius: u32) -> Vec<Signature> {
     let mut out = Vec::new();
-    let mut cur = vec![0i64; n];
-    for w in (0..=radius as i64).step_by(2) {
-        fill(&mut cur, 0, w, 0, &mut out);
-    }
+    for_each_in_ball(n, radius, |b| out.push(Signature(b.to_vec())));
     out
 }
 
-fn fill(cur: &mut [i64], j: usize, left: i64, sum: i64, out: &mut Vec<Signature>) {
+/// Call `visit` for every `b` of [`sum_zero_ball`], in the same order, without storing them.
+fn for_each_in_ball(n: usize, radius: u32, mut visit: impl FnMut(&[i64])) {
+    if n == 0 {
+        visit(&[]);
+        return;
+    }
+    let mut cur = vec![0i64; n];
+    for w in (0..=i64::from(radius)).step_by(2) {
+        fill(&mut cur, 0, w, 0, &mut visit);
+    }
+}
+
+fn fill(cur: &mut [i64], j: usize, left: i64, sum: i64, visit: &mut impl FnMut(&[i64])) {
     let n = cur.len();
     if j + 1 == n {
         let b = -sum;
         if b.abs() == left {
             cur[j] = b;
-            out.push(Signature(cur.to_vec()));
+            visit(cur);
             cur[j] = 0;
         }
         return;
     }
     for b in -left..=left {
         cur[j] = b;
-        fill(cur, j + 1, left - b.abs(), sum + b, out);
+        fill(cur, j + 1, left - b.abs(), sum + b, visit);
     }
     cur[j] = 0;
+}
+
+/// Estimated memory of `count` signatures over `n` fields: the vector header, its entries
+/// and the allocator's bookkeeping per signature.
+fn set_bytes(count: u64, n: usize) -> u64 {
+    let per_term = std::mem::size_of::<Signature>() + 8 * n + 16;
+    count.saturating_mul(per_term as u64)
+}
+
+/// Refuse an agnostic set over `n` fields of `sum |b| <= radius` (order `k`) whose exact size
+/// or estimated memory is above the limits, before anything is built.
+pub fn check_agnostic_size(n: usize, k: u32, radius: u32) -> Result<u64, ModelError> {
+    let count = agnostic_count(n, radius);
+    let hint = "lower the order, hold fewer fields (merge collinear pulses), or use the enumerated set from the level scheme (--from-pathways)";
+    if count > MAX_AGNOSTIC_TERMS {
+        return Err(ModelError::TooLarge {
+            what: format!("the agnostic set over {n} fields through order {k}"),
+            value: count,
+            limit: MAX_AGNOSTIC_TERMS,
+            hint: hint.into(),
+        });
+    }
+    let bytes = set_bytes(count, n);
+    if bytes > MAX_AGNOSTIC_BYTES {
+        return Err(ModelError::TooLarge {
+            what: format!(
+                "the memory (bytes) of the agnostic set over {n} fields through order {k} ({count} terms)"
+            ),
+            value: bytes,
+            limit: MAX_AGNOSTIC_BYTES,
+            hint: hint.into(),
+        });
+    }
+    Ok(count)
 }
 
 /// The agnostic set of `exp` through order `k`, less the `wanted` signatures. With
 /// `phase_matched_only`, coherent terms (`sum |b| > 2`) that the beam geometry does not let
 /// through are dropped; pair terms (scatter, linear) are always kept since scatter ignores
-/// phase matching.
+/// phase matching. The size is checked ([`check_agnostic_size`]) before anything is built,
+/// and only the terms kept are stored.
 pub fn agnostic_set(
     exp: &Experiment,
     k: u32,
@@ -80,20 +124,16 @@ pub fn agnostic_set(
 ) -> Result<Vec<Signature>, ModelError> {
     let radius = k + u32::from(exp.has_reference());
     let n = exp.fields.len();
-    let count = agnostic_count(n, radius);
-    if count > MAX_AGNOSTIC_TERMS {
-        return Err(ModelError::TooLarge {
-            what: format!("the agnostic set over {n} fields through order {k}"),
-            value: count,
-            limit: MAX_AGNOSTIC_TERMS,
-            hint: "lower the order or use the enumerated set from the level scheme".into(),
-        });
-    }
-    Ok(sum_zero_ball(n, radius)
-        .into_iter()
-        .filter(|b| !wanted.contains(b))
-        .filter(|b| !phase_matched_only || b.weight() <= 2 || exp.is_phase_matched(b))
-        .collect())
+    let count = check_agnostic_size(n, k, radius)?;
+    let mut out = Vec::with_capacity(count as usize);
+    for_each_in_ball(n, radius, |b| {
+        let b = Signature(b.to_vec());
+        let matched = !phase_matched_only || b.weight() <= 2 || exp.is_phase_matched(&b);
+        if matched && !wanted.contains(&b) {
+            out.push(b);
+        }
+    });
+    Ok(out)
 }
 
 #[cfg(test)]

@@ -25,7 +25,7 @@
 //! "#;
 //! let exp = parse_experiment(text, "two-level.toml".as_ref()).unwrap();
 //! // Two-level system, three time-ordered pulses: 2 rephasing + 2 non-rephasing pathways.
-//! assert_eq!(count_pathways(&exp, Scope::Signal), 4);
+//! assert_eq!(count_pathways(&exp, Scope::Signal).unwrap(), 4);
 //! ```
 #![deny(missing_docs)]
 

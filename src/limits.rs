@@ -13,6 +13,8 @@ pub const MAX_INTERACTIONS_PER_PULSE: u32 = 4;
 pub const MAX_COHERENCE: i32 = 12;
 /// Largest number of signatures an agnostic set may hold before it is refused.
 pub const MAX_AGNOSTIC_TERMS: u64 = 5_000_000;
+/// Largest memory an agnostic set may take (estimated from its exact size before it is built).
+pub const MAX_AGNOSTIC_BYTES: u64 = 256 * 1024 * 1024;
 /// Largest number of pathways that are kept in memory for a listing or a drawing
 /// (the summary mode streams and has no such limit).
 pub const MAX_LISTED_PATHWAYS: u64 = 200_000;

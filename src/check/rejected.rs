@@ -102,7 +102,6 @@ pub fn rejection_set(
             }
         }
         RejectionSource::FromPathways => {
-            crate::pathways::check_size(exp, Scope::Through(k))?;
             let mut sigs = Vec::new();
             let mut count = 0u64;
             for_each_pathway(exp, Scope::Through(k), |p| {
@@ -110,7 +109,7 @@ pub fn rejection_set(
                 if count <= crate::limits::MAX_AGNOSTIC_TERMS {
                     sigs.push(p.signature.clone());
                 }
-            });
+            })?;
             if count > crate::limits::MAX_AGNOSTIC_TERMS {
                 return Err(crate::error::ModelError::TooLarge {
                     what: format!("the number of pathways through order {k}"),

@@ -105,7 +105,7 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
                     }
                     rows.push(p.clone());
                 }
-            });
+            })?;
             if too_many {
                 bail!(
                     "more than {MAX_LISTED_PATHWAYS} pathways match `{spec}`; narrow the selection"

@@ -139,14 +139,14 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
         .iter()
         .map(|r| (r.name.clone(), r.kept.clone()))
         .collect();
-    let summary = summarize(&exp, scope, a.conjugates, &wanted);
+    let summary = summarize(&exp, scope, a.conjugates, &wanted)?;
 
     let listing = !a.summary || a.svg.is_some();
     let mut rows: Vec<Pathway> = Vec::new();
     if listing {
         let kept = |p: &Pathway| selector.as_ref().is_none_or(|s| s.keeps(p));
         let mut count = 0u64;
-        for_each_row(&exp, scope, a.conjugates, |p| count += u64::from(kept(p)));
+        for_each_row(&exp, scope, a.conjugates, |p| count += u64::from(kept(p)))?;
         if count > MAX_LISTED_PATHWAYS {
             bail!(
                 "{count} pathways would be listed, above the listing limit of {MAX_LISTED_PATHWAYS}; use --summary (streams), or --select to narrow"
@@ -156,7 +156,7 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
             if kept(p) {
                 rows.push(p.clone());
             }
-        });
+        })?;
     }
     let scope_text = match scope {
         Scope::Signal => "signal pathways (each pulse acts its set number of times)".to_string(),

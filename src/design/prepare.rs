@@ -4,7 +4,7 @@
 
 use super::{DesignRequest, Impossibility, PlanError, RejectionSource};
 use crate::agnostic::agnostic_set;
-use crate::design::lattice::{LatticeProblem, OutputSpec};
+use crate::design::lattice::{LatticeProblem, OutputSpec, MAX_DIMS};
 use crate::model::{Detection, Experiment, PathwayClass, PhaseControl};
 use crate::pathways::{for_each_pathway, resolve_signals, ResolvedSignal, Scope};
 use crate::signature::Signature;
@@ -36,6 +36,29 @@ pub fn restrict(b: &Signature, fields: &[usize]) -> Vec<i64> {
 
 /// Build the problem.
 pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanError> {
+    // Cycled fields; the global phase (every term has sum b = 0) lets one field stay fixed.
+    let mut cycled: Vec<usize> = (0..exp.fields.len())
+        .filter(|&j| exp.fields[j].phase == PhaseControl::Cycled)
+        .collect();
+    let any_fixed = cycled.len() < exp.fields.len();
+    let fixed_by_global_phase = if !any_fixed && !cycled.is_empty() {
+        Some(cycled.remove(0))
+    } else {
+        None
+    };
+    if cycled.is_empty() {
+        return Err(PlanError::NothingCycled);
+    }
+    // Limits before work: the field count is known now, the rejection set is not built yet.
+    if cycled.len() > MAX_DIMS {
+        return Err(crate::error::ModelError::TooLarge {
+            what: "the number of cycled fields (the global phase frees one)".into(),
+            value: cycled.len() as u64,
+            limit: MAX_DIMS as u64,
+            hint: "hold more fields at a fixed phase (`phase = \"fixed\"`), e.g. pulses the shaper does not control".into(),
+        }
+        .into());
+    }
     let outputs = resolve_signals(exp)?;
     if outputs.is_empty() {
         return Err(PlanError::NoSignals);
@@ -64,24 +87,10 @@ pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanEr
                         set.insert(p.signature.conjugate());
                     }
                 }
-            });
+            })?;
             set.into_iter().filter(|b| !wanted.contains(b)).collect()
         }
     };
-
-    // Cycled fields; the global phase (every term has sum b = 0) lets one field stay fixed.
-    let mut cycled: Vec<usize> = (0..exp.fields.len())
-        .filter(|&j| exp.fields[j].phase == PhaseControl::Cycled)
-        .collect();
-    let any_fixed = cycled.len() < exp.fields.len();
-    let fixed_by_global_phase = if !any_fixed && !cycled.is_empty() {
-        Some(cycled.remove(0))
-    } else {
-        None
-    };
-    if cycled.is_empty() {
-        return Err(PlanError::NothingCycled);
-    }
 
     let mut impossible = Vec::new();
     for o in &outputs {

@@ -3,7 +3,9 @@
 
 use super::classify::{classify, delay_ends};
 use super::nmr;
+use super::size::check_size;
 use super::{Direction, Element, Interaction, Pathway, Side};
+use crate::error::ModelError;
 use crate::model::{Detection, Experiment, LevelScheme, PathwayClass};
 use crate::signature::Signature;
 
@@ -36,8 +38,20 @@ struct Walker<'a, F: FnMut(&Pathway)> {
 }
 
 /// Call `visit` for every detected pathway of `exp` in `scope`, in a deterministic order.
-/// The `Pathway` passed is a reused buffer: clone it to keep it.
-pub fn for_each_pathway<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visit: F) {
+/// The `Pathway` passed is a reused buffer: clone it to keep it. The enumeration's size is
+/// bounded first ([`check_size`]): a request above the limit is refused before any work.
+pub fn for_each_pathway<F: FnMut(&Pathway)>(
+    exp: &Experiment,
+    scope: Scope,
+    visit: F,
+) -> Result<(), ModelError> {
+    check_size(exp, scope)?;
+    walk(exp, scope, visit);
+    Ok(())
+}
+
+/// The enumeration itself, once its size is known to be within the limit.
+fn walk<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visit: F) {
     if let Detection::Nmr { .. } = exp.detection {
         nmr::for_each_coherence_path(exp, visit);
         return;
@@ -93,21 +107,21 @@ pub fn for_each_row<F: FnMut(&Pathway)>(
     scope: Scope,
     conjugates: bool,
     mut visit: F,
-) {
+) -> Result<(), ModelError> {
     let add_conjugates = conjugates && super::needs_conjugate_rows(exp);
     for_each_pathway(exp, scope, |p| {
         visit(p);
         if add_conjugates {
             visit(&p.conjugated());
         }
-    });
+    })
 }
 
-/// Count the detected pathways without keeping any.
-pub fn count_pathways(exp: &Experiment, scope: Scope) -> u64 {
+/// Count the detected pathways without keeping any (size-checked like [`for_each_pathway`]).
+pub fn count_pathways(exp: &Experiment, scope: Scope) -> Result<u64, ModelError> {
     let mut n = 0u64;
-    for_each_pathway(exp, scope, |_| n += 1);
-    n
+    for_each_pathway(exp, scope, |_| n += 1)?;
+    Ok(n)
 }
 
 impl<'a, F: FnMut(&Pathway)> Walker<'a, F> {

@@ -37,7 +37,6 @@ pub struct ResolvedSignal {
 
 /// Resolve every wanted signal of the experiment.
 pub fn resolve_signals(exp: &Experiment) -> Result<Vec<ResolvedSignal>, ModelError> {
-    super::check_size(exp, Scope::Signal)?;
     // One pass over the signal pathways: which signatures carry which classes.
     let mut carried: BTreeMap<Signature, BTreeMap<PathwayClass, u64>> = BTreeMap::new();
     for_each_pathway(exp, Scope::Signal, |p| {
@@ -46,7 +45,7 @@ pub fn resolve_signals(exp: &Experiment) -> Result<Vec<ResolvedSignal>, ModelErr
             .or_default()
             .entry(p.class)
             .or_insert(0) += 1;
-    });
+    })?;
     let real = exp.detection.is_real();
     let closed_under_conjugation = matches!(exp.detection, Detection::Population);
     let mut out = Vec::new();

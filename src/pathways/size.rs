@@ -111,7 +111,7 @@ mod tests {
         let e = parse_experiment(text, "t.toml".as_ref()).unwrap();
         for scope in [Scope::Signal, Scope::Through(3), Scope::Through(5)] {
             assert!(
-                pathway_bound(&e, scope) >= count_pathways(&e, scope) as f64,
+                pathway_bound(&e, scope) >= count_pathways(&e, scope).unwrap() as f64,
                 "{scope:?}"
             );
         }

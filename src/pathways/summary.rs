@@ -2,6 +2,7 @@
 //! number of distinct signatures, never with the number of pathways.
 
 use super::{for_each_pathway, Pathway, Scope};
+use crate::error::ModelError;
 use crate::model::{Experiment, PathwayClass};
 use crate::signature::Signature;
 use serde::Serialize;
@@ -39,13 +40,14 @@ pub struct Summary {
 
 /// Count pathways per signature. With `conjugates`, emission-type detection also counts each
 /// pathway's complex-conjugate partner (population detection lists both already).
-/// `wanted` pairs an output name with the signatures it keeps.
+/// `wanted` pairs an output name with the signatures it keeps. Refused before work when the
+/// enumeration is above the size limit.
 pub fn summarize(
     exp: &Experiment,
     scope: Scope,
     conjugates: bool,
     wanted: &[(String, Vec<Signature>)],
-) -> Summary {
+) -> Result<Summary, ModelError> {
     let mut map: BTreeMap<Signature, (u64, u64, BTreeMap<PathwayClass, u64>, f64)> =
         BTreeMap::new();
     let mut total = 0u64;
@@ -71,7 +73,7 @@ pub fn summarize(
         if add_conjugates {
             add(p, true);
         }
-    });
+    })?;
     let mut signatures: Vec<SignatureSummary> = map
         .into_iter()
         .map(
@@ -97,7 +99,7 @@ pub fn summarize(
             .cmp(&b.signature.weight())
             .then_with(|| b.signature.cmp(&a.signature))
     });
-    Summary { total, signatures }
+    Ok(Summary { total, signatures })
 }
 
 /// True when the enumerator lists only the positive-frequency half of a real signal, so the
