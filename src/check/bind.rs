@@ -1,11 +1,12 @@
 //! Binding a cycle table to an experiment: cycle fields matched to the experiment's by name
-//! (omitted fixed fields get phase 0), approximate phases snapped to fractions within a stated
-//! tolerance, and each cycle output matched to a wanted signal (its kept signatures and the
+//! (omitted fixed fields get phase 0), cells snapped to exact values within their written
+//! precision ([`super::snap_cells`]), and each cycle output matched to a wanted signal (its kept signatures and the
 //! pathways of other classes sharing them).
 
+use super::snap_cells::{snap_phases, snap_weights, Snap};
 use super::CheckError;
 use crate::cycle::{weights_from_signature, Cycle, Phase, Weight, WeightSource};
-use crate::exact::{reduce_turn, snap_to_fraction, Turns};
+use crate::exact::Turns;
 use crate::model::{Experiment, PhaseControl};
 use crate::pathways::{resolve_signals, Contamination};
 use crate::signature::Signature;
@@ -15,7 +16,8 @@ use crate::signature::Signature;
 pub struct SnapPolicy {
     /// Snap at all (otherwise evaluate numerically and mark the verdict not exact).
     pub enabled: bool,
-    /// Largest distance, in turns, between a given phase and its snapped fraction.
+    /// Largest distance, in turns, between a phase marked approximate (`~`, no written
+    /// precision) and its snapped fraction; cells with written digits use their precision.
     pub tolerance_turns: f64,
     /// Largest denominator of a snapped fraction.
     pub max_denominator: u64,
@@ -40,10 +42,14 @@ pub struct BoundOutput {
     pub name: String,
     /// Kept signatures over the experiment's fields.
     pub kept: Vec<Signature>,
-    /// Step weights.
+    /// Step weights (snapped where the written precision allowed).
     pub weights: Vec<Weight>,
+    /// Radius of the written precision left on each weight (0 when exact or snapped).
+    pub weight_radius: Vec<f64>,
     /// How the weights were given.
     pub source: WeightSource,
+    /// For derived weights: the signature over the experiment's fields they keep.
+    pub derived_from: Option<Signature>,
     /// Unwanted pathways sharing a kept signature (from the experiment's resolution).
     pub contamination: Vec<Contamination>,
 }
@@ -53,14 +59,19 @@ pub struct BoundOutput {
 pub struct BoundCycle {
     /// Phases per step, one per experiment field (snapped where the policy allowed).
     pub phases: Vec<Vec<Phase>>,
+    /// Half-width in turns of the written precision left on each phase (0 when exact or
+    /// snapped), per step and experiment field.
+    pub half_width: Vec<Vec<f64>>,
     /// True for the experiment's fixed fields.
     pub fixed: Vec<bool>,
     /// Grid per field from the cycle's metadata, if given (1 for omitted fields).
     pub declared_grid: Option<Vec<u64>>,
     /// Outputs.
     pub outputs: Vec<BoundOutput>,
-    /// Notes for the report (snapping, derived weights).
+    /// Notes for the report (snapping, derived weights, dialect, unit warnings).
     pub notes: Vec<String>,
+    /// Cells snapped to exact values.
+    pub snaps: Vec<Snap>,
 }
 
 impl BoundCycle {
@@ -187,51 +198,24 @@ pub fn bind_cycle(
             }
         }
     }
-    // Phases in experiment order, snapped if allowed.
-    let mut snapped = 0usize;
-    let mut worst = 0.0f64;
-    let mut unsnapped = 0usize;
-    let mut phases = Vec::with_capacity(cycle.len());
-    for row in &cycle.steps {
-        let mut out = Vec::with_capacity(names.len());
-        for c in &col {
-            let p = match c {
-                None => Phase::Exact(Turns::from_integer(0)),
-                Some(c) => row[*c].clone(),
-            };
-            let p = match p {
-                Phase::Approx(x) if snap.enabled => {
-                    match snap_to_fraction(x, snap.max_denominator, snap.tolerance_turns) {
-                        Some(t) => {
-                            snapped += 1;
-                            worst = worst.max((x - *t.numer() as f64 / *t.denom() as f64).abs());
-                            Phase::Exact(reduce_turn(t))
-                        }
-                        None => {
-                            unsnapped += 1;
-                            Phase::Approx(x)
-                        }
-                    }
-                }
-                Phase::Approx(x) => {
-                    unsnapped += 1;
-                    Phase::Approx(x)
-                }
-                e => e,
-            };
-            out.push(p);
+    // Phases in experiment order, snapped to exact values within their written precision.
+    let grid = cycle
+        .meta
+        .grid
+        .as_deref()
+        .filter(|g| g.len() == cycle.fields.len());
+    let sp = snap_phases(cycle, &col, grid, snap);
+    let mut snaps = sp.snaps;
+    if let Some(w) = &cycle.meta.written {
+        if let Some(d) = &w.dialect {
+            notes.push(format!("table read as {d}"));
         }
-        phases.push(out);
+        notes.extend(w.warnings.iter().map(|x| format!("WARNING: {x}")));
     }
-    if snapped > 0 {
+    if sp.unsnapped > 0 {
         notes.push(format!(
-            "{snapped} approximate phase(s) snapped to fractions of a turn with denominator <= {} within {:e} turn (largest change {:.3e} turn = {:.3e} deg); the verdict is exact for the snapped cycle, see --tolerance for the effect of the difference",
-            snap.max_denominator, snap.tolerance_turns, worst, worst * 360.0
-        ));
-    }
-    if unsnapped > 0 {
-        notes.push(format!(
-            "{unsnapped} phase(s) are not rational fractions of a turn within the snapping tolerance; outputs are evaluated numerically with an error bound and their verdicts are NOT exact"
+            "{} phase(s) match no simple exact value within their written precision; outputs using them are judged against a rigorous rounding bound (zero within the table's precision, or a leak above it)",
+            sp.unsnapped
         ));
     }
     let declared_grid = cycle.meta.grid.as_ref().and_then(|g| {
@@ -245,13 +229,22 @@ pub fn bind_cycle(
         }
         Some(col.iter().map(|c| c.map_or(1, |c| u64::from(g[c]))).collect())
     });
-    let outputs = bind_outputs(exp, cycle, &col, &phases, &mut notes)?;
+    let phases = sp.phases;
+    let outputs = bind_outputs(exp, cycle, &col, &phases, snap, &mut snaps, &mut notes)?;
+    if !snaps.is_empty() {
+        notes.push(format!(
+            "{} cell(s) snapped to the simplest exact value within their written precision; the verdict is exact for the snapped table (snaps listed)",
+            snaps.len()
+        ));
+    }
     Ok(BoundCycle {
         phases,
+        half_width: sp.half_width,
         fixed,
         declared_grid,
         outputs,
         notes,
+        snaps,
     })
 }
 
@@ -260,6 +253,8 @@ fn bind_outputs(
     cycle: &Cycle,
     col: &[Option<usize>],
     phases: &[Vec<Phase>],
+    policy: &SnapPolicy,
+    snaps: &mut Vec<Snap>,
     notes: &mut Vec<String>,
 ) -> Result<Vec<BoundOutput>, CheckError> {
     let resolved = resolve_signals(exp)?;
@@ -279,6 +274,8 @@ fn bind_outputs(
             let t = r.kept[0].clone();
             out.push(BoundOutput {
                 name: r.name,
+                weight_radius: vec![0.0; phases.len()],
+                derived_from: Some(t.clone()),
                 weights: weights_from_signature(phases, &t.0),
                 source: WeightSource::FromSignature(t),
                 kept: r.kept,
@@ -299,7 +296,7 @@ fn bind_outputs(
             missing.iter().map(|s| s.as_str()).collect::<Vec<_>>().join(", ")
         )));
     }
-    for o in &cycle.outputs {
+    for (oi, o) in cycle.outputs.iter().enumerate() {
         if o.weights.len() != cycle.len() {
             return Err(CheckError::OutputMismatch(format!(
                 "output `{}` has {} weights for {} steps",
@@ -330,14 +327,26 @@ fn bind_outputs(
             }
         };
         // Weights derived from a signature follow the (possibly snapped) phases.
-        let weights = match &o.source {
-            WeightSource::FromSignature(t) => weights_from_signature(phases, &embed(t).0),
-            WeightSource::Explicit => o.weights.clone(),
+        let (weights, weight_radius) = match &o.source {
+            WeightSource::FromSignature(t) => (
+                weights_from_signature(phases, &embed(t).0),
+                vec![0.0; phases.len()],
+            ),
+            WeightSource::Explicit => {
+                let s = snap_weights(cycle, oi, policy);
+                snaps.extend(s.snaps);
+                (s.weights, s.radius)
+            }
         };
         out.push(BoundOutput {
             name: o.name.clone(),
             kept,
             weights,
+            weight_radius,
+            derived_from: match &o.source {
+                WeightSource::FromSignature(t) => Some(embed(t)),
+                WeightSource::Explicit => None,
+            },
             source: o.source.clone(),
             contamination,
         });

@@ -1,6 +1,7 @@
 //! Evaluating one output's filter over its kept terms, conjugates and rejection set: exactly
-//! (cyclotomic arithmetic via [`ExactFilter`]) when every phase and weight is exact, otherwise
-//! numerically with a stated error bound (and the verdict marked not exact).
+//! (cyclotomic arithmetic via [`ExactFilter`]) when every phase and weight is exact (as written
+//! or snapped), otherwise at the written values with a rigorous bound from the table's written
+//! precision ([`NumericFilter::bound`]), and the verdict class says which.
 
 use super::bind::{BoundCycle, BoundOutput};
 use super::rejected::Origin;
@@ -13,10 +14,6 @@ use crate::signature::Signature;
 use num_complex::Complex64;
 use serde::Serialize;
 
-/// Relative size of the rounding in weights written as approximate decimals, used in the
-/// numeric threshold: a 4-significant-digit weight errs by up to 5e-4 of its size.
-pub const APPROX_WEIGHT_RESOLUTION: f64 = 5e-4;
-
 /// A filter value for the report.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Value {
@@ -28,17 +25,36 @@ pub struct Value {
     pub im: f64,
     /// Modulus.
     pub abs: f64,
+    /// For a value judged at the table's written precision: every table within that precision
+    /// has `|F|` within this distance of `abs` (rounding of the written digits plus float
+    /// error). `None` when exact.
+    pub bound: Option<f64>,
 }
 
 impl Value {
-    fn from_complex(z: Complex64, exact: Option<String>) -> Value {
+    fn from_complex(z: Complex64, exact: Option<String>, bound: Option<f64>) -> Value {
         Value {
             exact,
             re: z.re,
             im: z.im,
             abs: z.norm(),
+            bound,
         }
     }
+}
+
+/// How a verdict was reached, from strongest to weakest.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum VerdictClass {
+    /// Every phase and weight exact as written; cyclotomic arithmetic.
+    Exact,
+    /// Exact for the table with its cells snapped to exact values within their written
+    /// precision (snaps listed).
+    ExactAfterSnapping,
+    /// Some cell matches no simple exact value: each `F(b)` is zero within the table's
+    /// precision (`|F| <=` a rigorous rounding bound) or a leak provably above it.
+    WithinPrecision,
 }
 
 /// The evaluator of one output's filter.
@@ -46,19 +62,63 @@ impl Value {
 pub enum Evaluator {
     /// Exact cyclotomic evaluation.
     Exact(ExactFilter),
-    /// Floating-point evaluation; `|F| <= threshold` counts as zero.
-    Numeric {
-        /// Phases in turns, step-major.
-        phases: Vec<Vec<f64>>,
-        /// Weights.
-        weights: Vec<Complex64>,
-        /// Zero threshold (float error bound plus the weight resolution if weights are approximate).
-        threshold: f64,
-    },
+    /// Floating-point evaluation at the written values with a rigorous bound from their
+    /// precision: `|F| <= bound(b)` counts as zero.
+    Numeric(Box<NumericFilter>),
+}
+
+/// The data of [`Evaluator::Numeric`].
+#[derive(Clone, Debug)]
+pub struct NumericFilter {
+    /// Phases in turns, step-major.
+    pub phases: Vec<Vec<f64>>,
+    /// Weights.
+    pub weights: Vec<Complex64>,
+    /// Half-width in turns of each phase, step-major.
+    pub half_width: Vec<Vec<f64>>,
+    /// Radius of each weight.
+    pub weight_radius: Vec<f64>,
+    /// For weights derived from a signature `t` (`w_m = exp(-2 pi i t.phi_m)/N`, following
+    /// the phases): `t`, so that the bound uses `b - t`.
+    pub derived_from: Option<Vec<i64>>,
+}
+
+impl NumericFilter {
+    /// Rigorous bound on `|F_true(b) - F_computed(b)|` for every table within the written
+    /// precision: `sum_m |w_m| min(2, 2 pi sum_j |b_j| h_mj) + r_m` (with `b - t` for derived
+    /// weights, whose radius is then 0), plus the float evaluation error
+    /// `eps sum |w| (32 (|b|_1 + 4) + 2N)`; rounded up.
+    pub fn bound(&self, b: &[i64]) -> f64 {
+        let shifted: Vec<i64> = match &self.derived_from {
+            Some(t) => b.iter().zip(t).map(|(x, y)| x - y).collect(),
+            None => b.to_vec(),
+        };
+        let mut total = 0.0;
+        let mut sum_abs = 0.0;
+        for ((w, h), r) in self
+            .weights
+            .iter()
+            .zip(&self.half_width)
+            .zip(&self.weight_radius)
+        {
+            let spread: f64 = shifted
+                .iter()
+                .zip(h)
+                .map(|(&bj, &hj)| (bj as f64).abs() * hj)
+                .sum();
+            let a = w.norm();
+            sum_abs += a;
+            total += a * (std::f64::consts::TAU * spread).min(2.0) + r;
+        }
+        let l1: f64 = b.iter().map(|&x| (x as f64).abs()).sum();
+        let float = f64::EPSILON * sum_abs * (32.0 * (l1 + 4.0) + 2.0 * self.weights.len() as f64);
+        (total + float) * (1.0 + 1e-12)
+    }
 }
 
 impl Evaluator {
-    /// Build the evaluator of `out` on `bound`: exact when possible.
+    /// Build the evaluator of `out` on `bound`: exact when every phase and weight is exact
+    /// (as written or snapped), numeric with the precision bound otherwise.
     pub fn new(bound: &BoundCycle, out: &BoundOutput) -> Result<Evaluator, CheckError> {
         let exact_w: Option<Vec<Cyclo>> = out
             .weights
@@ -73,21 +133,17 @@ impl Evaluator {
                 return Ok(Evaluator::Exact(f));
             }
         }
-        let weights: Vec<Complex64> = out.weights.iter().map(Weight::to_complex).collect();
-        let sum_abs: f64 = weights.iter().map(|w| w.norm()).sum();
-        let approx_w = exact_w.is_none();
-        let n = weights.len() as f64;
-        let threshold = 64.0 * n * f64::EPSILON * sum_abs.max(f64::MIN_POSITIVE)
-            + if approx_w {
-                APPROX_WEIGHT_RESOLUTION * sum_abs
-            } else {
-                0.0
-            };
-        Ok(Evaluator::Numeric {
+        let derived_from = match &out.source {
+            WeightSource::FromSignature(_) => out.derived_from.as_ref().map(|t| t.0.clone()),
+            WeightSource::Explicit => None,
+        };
+        Ok(Evaluator::Numeric(Box::new(NumericFilter {
             phases: bound.phases_f64(),
-            weights,
-            threshold,
-        })
+            weights: out.weights.iter().map(Weight::to_complex).collect(),
+            half_width: bound.half_width.clone(),
+            weight_radius: out.weight_radius.clone(),
+            derived_from,
+        })))
     }
 
     /// True for exact evaluation.
@@ -95,11 +151,11 @@ impl Evaluator {
         matches!(self, Evaluator::Exact(_))
     }
 
-    /// `F(b) == 0` (exactly, or within the numeric threshold).
+    /// `F(b) == 0` (exactly, or within the precision bound).
     pub fn is_zero(&self, b: &[i64]) -> Result<bool, CheckError> {
         match self {
             Evaluator::Exact(f) => Ok(f.is_zero(b)?),
-            Evaluator::Numeric { threshold, .. } => Ok(self.approx(b).norm() <= *threshold),
+            Evaluator::Numeric(n) => Ok(self.approx(b).norm() <= n.bound(b)),
         }
     }
 
@@ -107,9 +163,15 @@ impl Evaluator {
     pub fn approx(&self, b: &[i64]) -> Complex64 {
         match self {
             Evaluator::Exact(f) => f.approx(b).unwrap_or_default(),
-            Evaluator::Numeric {
-                phases, weights, ..
-            } => float_filter(phases, weights, b),
+            Evaluator::Numeric(n) => float_filter(&n.phases, &n.weights, b),
+        }
+    }
+
+    /// The precision bound on `|F(b)|` (`None` when exact).
+    pub fn bound(&self, b: &[i64]) -> Option<f64> {
+        match self {
+            Evaluator::Exact(_) => None,
+            Evaluator::Numeric(n) => Some(n.bound(b)),
         }
     }
 
@@ -118,9 +180,13 @@ impl Evaluator {
         match self {
             Evaluator::Exact(f) => {
                 let c = f.eval(b)?;
-                Ok(Value::from_complex(c.to_complex(), Some(c.to_string())))
+                Ok(Value::from_complex(
+                    c.to_complex(),
+                    Some(c.to_string()),
+                    None,
+                ))
             }
-            Evaluator::Numeric { .. } => Ok(Value::from_complex(self.approx(b), None)),
+            Evaluator::Numeric(_) => Ok(Value::from_complex(self.approx(b), None, self.bound(b))),
         }
     }
 }
@@ -203,6 +269,10 @@ pub fn check_output(
             });
         }
     }
+    let rounding_bound = set
+        .iter()
+        .filter_map(|(b, _)| ev.bound(&b.0))
+        .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))));
     let first = first_leak::first_leak(exp, ev, &out.kept, search_to, geometry)?;
     let insep = inseparable::find(exp, bound, out, &leaks, &conjugates);
     let tol = req
@@ -220,6 +290,18 @@ pub fn check_output(
             WeightSource::FromSignature(t) => format!("from signature {t} (cycle fields)"),
         },
         exact: ev.is_exact(),
+        class: if !ev.is_exact() {
+            VerdictClass::WithinPrecision
+        } else if bound
+            .snaps
+            .iter()
+            .any(|s| !s.column.starts_with("w:") || s.column == format!("w:{}", out.name))
+        {
+            VerdictClass::ExactAfterSnapping
+        } else {
+            VerdictClass::Exact
+        },
+        rounding_bound,
         noise_efficiency: kept.first().map_or(0.0, |k| k.noise_efficiency),
         kept,
         lost,

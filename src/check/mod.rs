@@ -42,6 +42,7 @@ pub mod evaluate;
 pub mod first_leak;
 pub mod inseparable;
 pub mod rejected;
+pub mod snap_cells;
 pub mod tolerance;
 
 use crate::cycle::Cycle;
@@ -52,9 +53,10 @@ use crate::signature::Signature;
 use serde::Serialize;
 
 pub use bind::{bind_cycle, BoundCycle, BoundOutput, SnapPolicy};
-pub use evaluate::{Evaluator, Value};
+pub use evaluate::{Evaluator, NumericFilter, Value, VerdictClass};
 pub use inseparable::{Inseparable, InseparableKind};
 pub use rejected::{Origin, RejectionSource};
+pub use snap_cells::Snap;
 pub use tolerance::{ToleranceReport, ToleranceRequest};
 
 /// Default number of orders above the requested one searched for the first leak.
@@ -194,8 +196,13 @@ pub struct OutputReport {
     pub name: String,
     /// Where its weights came from (`explicit` or the signature).
     pub weights: String,
-    /// True when this output's verdict is exact.
+    /// True when this output's verdict is exact (as written or after snapping).
     pub exact: bool,
+    /// How the verdict was reached: exact, exact after snapping, within the written precision.
+    pub class: VerdictClass,
+    /// Within the written precision: the largest rounding bound over the rejected terms (a
+    /// term is zero within precision when `|F|` is below its own bound). `None` when exact.
+    pub rounding_bound: Option<f64>,
     /// Kept terms.
     pub kept: Vec<KeptTerm>,
     /// Kept terms with `F(t) = 0` (the output loses what it wants).
@@ -240,8 +247,10 @@ pub struct CheckReport {
     pub leak_search_to: u32,
     /// True when every verdict is exact.
     pub exact: bool,
-    /// Notes on snapping, numeric evaluation, limits.
+    /// Notes on snapping, numeric evaluation, limits, the table's dialect and unit warnings.
     pub notes: Vec<String>,
+    /// Cells snapped to exact values within their written precision.
+    pub snaps: Vec<Snap>,
     /// Phases used per field.
     pub phases_used: Vec<FieldPhases>,
     /// One report per output.
@@ -320,6 +329,7 @@ pub fn check_cycle(
         leak_search_to: search_to,
         exact,
         notes,
+        snaps: bound.snaps.clone(),
         phases_used: bound.phases_used(exp),
         outputs,
         first_leak_order,

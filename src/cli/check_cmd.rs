@@ -153,15 +153,18 @@ fn render(r: &CheckReport) -> String {
     let _ = writeln!(
         s,
         "arithmetic: {}",
-        if r.exact {
+        if r.exact && r.snaps.is_empty() {
             "exact (cyclotomic)"
+        } else if r.exact {
+            "exact (cyclotomic) for the table snapped within its written precision"
         } else {
-            "NOT exact for some outputs (numeric, see notes)"
+            "within the table's written precision for some outputs (rigorous rounding bound)"
         }
     );
     for n in &r.notes {
         let _ = writeln!(s, "note: {n}");
     }
+    render_snaps(&mut s, &r.snaps);
     let mut t = table(&["field", "phases used (turns)", "grid"]);
     for f in &r.phases_used {
         let name = if f.fixed {
@@ -182,7 +185,7 @@ fn render(r: &CheckReport) -> String {
             "\noutput {} — {} ({}), weights {}, noise efficiency {:.4}",
             o.name,
             if o.clean { "CLEAN" } else { "LEAKS" },
-            if o.exact { "exact" } else { "not exact" },
+            class_label(o),
             o.weights,
             o.noise_efficiency
         );
@@ -298,6 +301,38 @@ fn render(r: &CheckReport) -> String {
     s
 }
 
+/// The verdict class of an output in words.
+fn class_label(o: &pathsieve::check::OutputReport) -> String {
+    use pathsieve::check::VerdictClass;
+    match o.class {
+        VerdictClass::Exact => "exact".into(),
+        VerdictClass::ExactAfterSnapping => "exact after snapping".into(),
+        VerdictClass::WithinPrecision => format!(
+            "within the table's precision: |F| <= {} from rounding alone",
+            o.rounding_bound.map_or("-".into(), |b| format!("{b:.1e}"))
+        ),
+    }
+}
+
+/// The snapped cells, a few listed.
+fn render_snaps(s: &mut String, snaps: &[pathsieve::check::Snap]) {
+    const SHOWN: usize = 6;
+    for x in snaps.iter().take(SHOWN) {
+        let _ = writeln!(
+            s,
+            "snap: step {}, {}: {} -> {}",
+            x.step, x.column, x.written, x.exact
+        );
+    }
+    if snaps.len() > SHOWN {
+        let _ = writeln!(
+            s,
+            "snap: ... {} more (--json lists all)",
+            snaps.len() - SHOWN
+        );
+    }
+}
+
 fn fmt_c(re: f64, im: f64) -> String {
     format!(
         "~{re:.6}{}{:.6}i",
@@ -316,7 +351,8 @@ fn fmt_abs(x: f64) -> String {
     }
 }
 
-/// A filter value for tables: its exact form when known, else the float with a `~`.
+/// A filter value for tables: its exact form when known, else the float with a `~` (the
+/// rounding bound is in the output's heading and in --json).
 fn fmt_value(v: &pathsieve::check::Value) -> String {
     v.exact.clone().unwrap_or_else(|| fmt_c(v.re, v.im))
 }

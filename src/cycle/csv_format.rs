@@ -2,10 +2,20 @@
 //! it: optional `# key = value` directive lines (`unit`, `title`, `made_by`, `experiment`,
 //! `grid`, `note`), a header row naming one column per field, optional `w:NAME` weight columns
 //! (one per output) and an optional `step` index column, then one row per step. Errors name
-//! the file line (row) and the column.
+//! the file line (row) and the column. Spreadsheet dialects (byte-order mark, CRLF, semicolon
+//! or tab separators, decimal commas, units in header names, empty trailing columns) are
+//! detected by [`super::dialect`] and named in the cycle's [`WrittenForm`]; each cell's written
+//! precision is recorded there too.
 
-use super::text::{format_phase, format_weight, parse_phase_cell, parse_unit, parse_weight_cell};
-use super::{resolve_unit, Cycle, CycleMeta, CycleOutput, WeightSource};
+use super::dialect::{decimal_point, detect, split_header_unit, Dialect};
+use super::plausible::unit_warning;
+use super::text::{
+    format_phase, format_weight, parse_phase_cell_written, parse_unit, parse_weight_cell_written,
+    unit_name,
+};
+use super::{
+    resolve_unit, Cycle, CycleMeta, CycleOutput, Phase, Weight, WeightSource, WrittenForm,
+};
 use crate::error::InputError;
 use crate::exact::PhaseUnit;
 use crate::limits::{MAX_FIELDS, MAX_STEPS};
@@ -13,7 +23,7 @@ use std::path::Path;
 
 enum Column {
     Step,
-    Field(usize),
+    Field(usize, PhaseUnit),
     Weight(usize),
 }
 
@@ -24,17 +34,21 @@ fn weight_name(h: &str) -> Option<&str> {
         .map(str::trim)
 }
 
-/// Parse a CSV (or, for a `.tsv` path, tab-separated) cycle table.
-pub fn read_cycle_csv(
-    text: &str,
-    path: &Path,
-    unit_override: Option<PhaseUnit>,
-) -> Result<Cycle, InputError> {
+/// The leading `# key = value` directives.
+struct Directives {
+    meta: CycleMeta,
+    unit: Option<PhaseUnit>,
+    unit_line: Option<usize>,
+}
+
+fn read_directives(text: &str, path: &Path) -> Result<Directives, InputError> {
     let err =
         |line: Option<usize>, key: Option<&str>, msg: String| InputError::new(path, line, key, msg);
-    let mut meta = CycleMeta::default();
-    let mut declared = None;
-    let mut unit_line = None;
+    let mut d = Directives {
+        meta: CycleMeta::default(),
+        unit: None,
+        unit_line: None,
+    };
     for (i, line) in text.lines().enumerate() {
         let l = line.trim();
         if l.is_empty() {
@@ -49,20 +63,20 @@ pub fn read_cycle_csv(
         let (k, v) = (k.trim().to_ascii_lowercase(), v.trim().to_string());
         match k.as_str() {
             "unit" => {
-                declared = Some(parse_unit(&v).map_err(|m| err(Some(i + 1), Some("unit"), m))?);
-                unit_line = Some(i + 1);
+                d.unit = Some(parse_unit(&v).map_err(|m| err(Some(i + 1), Some("unit"), m))?);
+                d.unit_line = Some(i + 1);
             }
-            "title" => meta.title = Some(v),
-            "made_by" | "made by" => meta.made_by = Some(v),
-            "experiment" => meta.experiment = Some(v),
-            "note" => meta.notes.push(v),
+            "title" => d.meta.title = Some(v),
+            "made_by" | "made by" => d.meta.made_by = Some(v),
+            "experiment" => d.meta.experiment = Some(v),
+            "note" => d.meta.notes.push(v),
             "grid" => {
                 let g: Result<Vec<u32>, _> = v
                     .split(|c: char| c == 'x' || c == ',' || c.is_whitespace())
                     .filter(|s| !s.is_empty())
                     .map(str::parse)
                     .collect();
-                meta.grid = Some(g.map_err(|_| {
+                d.meta.grid = Some(g.map_err(|_| {
                     err(
                         Some(i + 1),
                         Some("grid"),
@@ -73,17 +87,102 @@ pub fn read_cycle_csv(
             _ => {}
         }
     }
-    let unit = resolve_unit(path, unit_line, declared, unit_override)?;
-    let delim = if path
-        .extension()
-        .is_some_and(|e| e.eq_ignore_ascii_case("tsv"))
-    {
-        b'\t'
-    } else {
-        b','
+    Ok(d)
+}
+
+/// The header row as columns: field names with their units, weight outputs, trailing empty
+/// columns dropped (spreadsheets write them).
+struct Header {
+    columns: Vec<Column>,
+    fields: Vec<String>,
+    outputs: Vec<String>,
+    line: Option<usize>,
+}
+
+fn read_header(
+    header: &csv::StringRecord,
+    path: &Path,
+    declared: Option<PhaseUnit>,
+    unit_override: Option<PhaseUnit>,
+    unit_line: Option<usize>,
+) -> Result<Header, InputError> {
+    let line = header.position().map(|p| p.line() as usize);
+    let err = |key: Option<&str>, msg: String| InputError::new(path, line, key, msg);
+    let cells: Vec<&str> = header.iter().map(str::trim).collect();
+    let width = cells
+        .iter()
+        .rposition(|c| !c.is_empty())
+        .map_or(0, |k| k + 1);
+    let mut h = Header {
+        columns: Vec::new(),
+        fields: Vec::new(),
+        outputs: Vec::new(),
+        line,
     };
+    for (c, &cell) in cells[..width].iter().enumerate() {
+        let key = format!("column {}", c + 1);
+        if cell.is_empty() {
+            return Err(err(Some(&key), "empty column name in the header row; name every column (field names, `w:NAME` weights)".into()));
+        }
+        if c == 0
+            && (cell.eq_ignore_ascii_case("step")
+                || cell == "#"
+                || cell.eq_ignore_ascii_case("index"))
+        {
+            h.columns.push(Column::Step);
+        } else if let Some(w) = weight_name(cell) {
+            if h.outputs.iter().any(|o| o == w) || w.is_empty() {
+                return Err(err(
+                    Some(cell),
+                    format!("weight column `{cell}` is empty or repeated"),
+                ));
+            }
+            h.columns.push(Column::Weight(h.outputs.len()));
+            h.outputs.push(w.to_string());
+        } else {
+            let (name, col_unit) = split_header_unit(cell).map_err(|m| err(Some(&key), m))?;
+            if h.fields.contains(&name) {
+                return Err(err(Some(cell), format!("field column `{name}` repeated")));
+            }
+            let unit = match (col_unit, declared.or(unit_override)) {
+                (Some(u), Some(d)) if u != d => {
+                    return Err(err(
+                        Some(cell),
+                        format!(
+                            "the header says {} but the file's unit is {}; make them agree",
+                            unit_name(u),
+                            unit_name(d)
+                        ),
+                    ))
+                }
+                (Some(u), _) => u,
+                (None, _) => resolve_unit(path, unit_line, declared, unit_override)?,
+            };
+            h.columns.push(Column::Field(h.fields.len(), unit));
+            h.fields.push(name);
+        }
+    }
+    if h.fields.is_empty() || h.fields.len() > MAX_FIELDS {
+        return Err(err(
+            None,
+            format!(
+                "the header must name 1..={MAX_FIELDS} field columns (weight columns are `w:NAME`)"
+            ),
+        ));
+    }
+    Ok(h)
+}
+
+/// Parse a cycle table in any of the spreadsheet dialects of [`super::dialect`].
+pub fn read_cycle_csv(
+    text: &str,
+    path: &Path,
+    unit_override: Option<PhaseUnit>,
+) -> Result<Cycle, InputError> {
+    let (mut dialect, text) = detect(text, path);
+    let d = read_directives(text, path)?;
     let mut rdr = csv::ReaderBuilder::new()
-        .delimiter(delim)
+        .delimiter(dialect.delimiter)
         .comment(Some(b'#'))
         .flexible(true)
         .has_headers(false)
@@ -92,116 +191,142 @@ pub fn read_cycle_csv(
     let mut records = rdr.records();
     let header = match records.next() {
         Some(Ok(h)) => h,
-        Some(Err(e)) => return Err(err(None, None, format!("cannot read the header row: {e}"))),
-        None => return Err(err(None, None, "the table is empty: give a header row naming the field columns, then one row per step (0 steps is not a cycle)".into())),
+        Some(Err(e)) => return Err(InputError::new(path, None, None, format!("cannot read the header row: {e}"))),
+        None => return Err(InputError::new(path, None, None, "the table is empty: give a header row naming the field columns, then one row per step (0 steps is not a cycle)")),
     };
-    let header_line = header.position().map(|p| p.line() as usize);
-    let mut columns = Vec::new();
-    let mut fields: Vec<String> = Vec::new();
-    let mut outputs: Vec<String> = Vec::new();
-    for (c, h) in header.iter().enumerate() {
-        let h = h.trim();
-        if h.is_empty() {
-            return Err(err(
-                header_line,
-                Some(&format!("column {}", c + 1)),
-                "empty column name in the header row".into(),
-            ));
-        }
-        if c == 0 && (h.eq_ignore_ascii_case("step") || h == "#" || h.eq_ignore_ascii_case("index"))
-        {
-            columns.push(Column::Step);
-        } else if let Some(w) = weight_name(h) {
-            if outputs.iter().any(|o| o == w) || w.is_empty() {
-                return Err(err(
-                    header_line,
-                    Some(h),
-                    format!("weight column `{h}` is empty or repeated"),
-                ));
-            }
-            columns.push(Column::Weight(outputs.len()));
-            outputs.push(w.to_string());
-        } else {
-            if fields.iter().any(|f| f == h) {
-                return Err(err(
-                    header_line,
-                    Some(h),
-                    format!("field column `{h}` repeated"),
-                ));
-            }
-            columns.push(Column::Field(fields.len()));
-            fields.push(h.to_string());
-        }
-    }
-    if fields.is_empty() || fields.len() > MAX_FIELDS {
-        return Err(err(
-            header_line,
-            None,
-            format!(
-                "the header must name 1..={MAX_FIELDS} field columns (weight columns are `w:NAME`)"
-            ),
-        ));
-    }
-    let mut steps = Vec::new();
-    let mut weights: Vec<Vec<_>> = vec![Vec::new(); outputs.len()];
+    let h = read_header(&header, path, d.unit, unit_override, d.unit_line)?;
+    let mut rows = Rows::new(&h);
     for rec in records {
-        let rec = rec.map_err(|e| err(None, None, format!("cannot read a row: {e}")))?;
+        let rec =
+            rec.map_err(|e| InputError::new(path, None, None, format!("cannot read a row: {e}")))?;
+        rows.push(&rec, &h, &mut dialect, path)?;
+    }
+    rows.finish(h, d.meta, dialect, path)
+}
+
+/// The steps, weights and written precisions read so far.
+struct Rows {
+    steps: Vec<Vec<Phase>>,
+    half_widths: Vec<Vec<Option<f64>>>,
+    raw: Vec<Vec<f64>>,
+    weights: Vec<Vec<Weight>>,
+    radii: Vec<Vec<Option<f64>>>,
+}
+
+impl Rows {
+    fn new(h: &Header) -> Rows {
+        Rows {
+            steps: Vec::new(),
+            half_widths: Vec::new(),
+            raw: vec![Vec::new(); h.fields.len()],
+            weights: vec![Vec::new(); h.outputs.len()],
+            radii: vec![Vec::new(); h.outputs.len()],
+        }
+    }
+
+    fn push(
+        &mut self,
+        rec: &csv::StringRecord,
+        h: &Header,
+        dialect: &mut Dialect,
+        path: &Path,
+    ) -> Result<(), InputError> {
         let line = rec.position().map(|p| p.line() as usize);
+        let err = |key: Option<&str>, msg: String| InputError::new(path, line, key, msg);
         if rec.iter().all(|c| c.is_empty()) {
-            continue;
+            return Ok(());
         }
-        if steps.len() >= MAX_STEPS {
-            return Err(err(line, None, format!("more than {MAX_STEPS} steps (the limit); split the table or use a coarser cycle")));
+        if self.steps.len() >= MAX_STEPS {
+            return Err(err(None, format!("more than {MAX_STEPS} steps (the limit); split the table or use a coarser cycle")));
         }
-        if rec.len() != columns.len() {
-            return Err(err(line, None, format!(
+        let cells: Vec<&str> = rec.iter().collect();
+        let width = cells
+            .iter()
+            .rposition(|c| !c.is_empty())
+            .map_or(0, |k| k + 1);
+        if width > h.columns.len() || rec.len() < h.columns.len() {
+            return Err(err(None, format!(
                 "row {} has {} cells but the header has {} columns; every row needs one cell per column",
-                steps.len() + 1,
-                rec.len(),
-                columns.len()
+                self.steps.len() + 1,
+                width.max(rec.len().min(h.columns.len())),
+                h.columns.len()
             )));
         }
-        let mut row = vec![crate::cycle::Phase::Approx(0.0); fields.len()];
-        for (cell, col) in rec.iter().zip(&columns) {
+        let mut row = vec![Phase::Approx(0.0); h.fields.len()];
+        let mut hw = vec![None; h.fields.len()];
+        for (c, (cell, col)) in rec.iter().zip(&h.columns).enumerate() {
+            let (cell, comma) = decimal_point(cell, dialect);
+            dialect.decimal_comma |= comma;
             match col {
                 Column::Step => {}
-                Column::Field(j) => {
-                    row[*j] = parse_phase_cell(cell, unit)
-                        .map_err(|e| err(line, Some(&format!("column {}", fields[*j])), e))?;
+                Column::Field(j, unit) => {
+                    let key = format!("column {} (#{})", h.fields[*j], c + 1);
+                    let p =
+                        parse_phase_cell_written(&cell, *unit).map_err(|e| err(Some(&key), e))?;
+                    row[*j] = p.phase;
+                    hw[*j] = p.half_width;
+                    self.raw[*j].push(p.raw_turns);
                 }
                 Column::Weight(o) => {
-                    weights[*o].push(
-                        parse_weight_cell(cell).map_err(|e| {
-                            err(line, Some(&format!("column w:{}", outputs[*o])), e)
-                        })?,
-                    );
+                    let key = format!("column w:{} (#{})", h.outputs[*o], c + 1);
+                    let (w, r) =
+                        parse_weight_cell_written(&cell).map_err(|e| err(Some(&key), e))?;
+                    self.weights[*o].push(w);
+                    self.radii[*o].push(r);
                 }
             }
         }
-        steps.push(row);
+        self.steps.push(row);
+        self.half_widths.push(hw);
+        Ok(())
     }
-    if steps.is_empty() {
-        return Err(err(
-            header_line,
-            None,
-            "the table has 0 steps; give at least one row after the header".into(),
-        ));
-    }
-    let outputs = outputs
-        .into_iter()
-        .zip(weights)
-        .map(|(name, weights)| CycleOutput {
-            name,
-            weights,
-            source: WeightSource::Explicit,
+
+    fn finish(
+        self,
+        h: Header,
+        mut meta: CycleMeta,
+        dialect: Dialect,
+        path: &Path,
+    ) -> Result<Cycle, InputError> {
+        if self.steps.is_empty() {
+            return Err(InputError::new(
+                path,
+                h.line,
+                None,
+                "the table has 0 steps; give at least one row after the header",
+            ));
+        }
+        let warnings = h
+            .columns
+            .iter()
+            .filter_map(|c| match c {
+                Column::Field(j, unit) => unit_warning(&h.fields[*j], *unit, &self.raw[*j]),
+                _ => None,
+            })
+            .collect();
+        meta.written = Some(WrittenForm {
+            dialect: Some(dialect.describe()),
+            phase_half_width: self.half_widths,
+            weight_radius: self.radii,
+            warnings,
+        });
+        let outputs = h
+            .outputs
+            .into_iter()
+            .zip(self.weights)
+            .map(|(name, weights)| CycleOutput {
+                name,
+                weights,
+                source: WeightSource::Explicit,
+            })
+            .collect();
+        Ok(Cycle {
+            fields: h.fields,
+            steps: self.steps,
+            outputs,
+            meta,
         })
-        .collect();
-    Ok(Cycle {
-        fields,
-        steps,
-        outputs,
-        meta,
-    })
+    }
 }
 
 /// Write a cycle as a CSV table: directives, header, one row per step, exact phases as `p/q`

@@ -4,6 +4,8 @@
 //! the data, its exact/float views and [`read_cycle`], which picks the format by extension.
 
 pub mod csv_format;
+pub mod dialect;
+pub mod plausible;
 pub mod text;
 pub mod toml_format;
 
@@ -100,6 +102,54 @@ pub struct CycleMeta {
     pub experiment: Option<String>,
     /// Free notes.
     pub notes: Vec<String>,
+    /// How the table was written (dialect, each cell's written precision, unit warnings);
+    /// `None` for cycles built in memory.
+    pub written: Option<WrittenForm>,
+}
+
+/// How a cycle table was written: the file dialect and the precision each cell's digits carry
+/// (docs/cycle-format.md, "Written precision").
+#[derive(Clone, Debug, Default, PartialEq, Serialize)]
+pub struct WrittenForm {
+    /// The dialect read, e.g. `CSV, semicolon-separated, decimal commas, UTF-8 byte-order mark`.
+    pub dialect: Option<String>,
+    /// Per step, per cycle field: half-width in turns of the interval the written digits stand
+    /// for (0 for exact forms); `None` for a value marked approximate (`~`) without a usable
+    /// precision, which the checker snaps within its snapping tolerance.
+    pub phase_half_width: Vec<Vec<Option<f64>>>,
+    /// Per output, per step: radius of the written precision of the weight (as above).
+    pub weight_radius: Vec<Vec<Option<f64>>>,
+    /// Warnings about the table, such as an implausible phase unit, with the suggested fix.
+    pub warnings: Vec<String>,
+}
+
+impl WrittenForm {
+    /// The written half-width of phase cell (`step`, `column`): the recorded one, else 0 for an
+    /// exact phase and `None` for an approximate one.
+    pub fn phase_half_width(
+        form: Option<&WrittenForm>,
+        step: usize,
+        column: usize,
+        p: &Phase,
+    ) -> Option<f64> {
+        match form.and_then(|w| w.phase_half_width.get(step)?.get(column).copied()) {
+            Some(h) => h,
+            None => matches!(p, Phase::Exact(_)).then_some(0.0),
+        }
+    }
+
+    /// The written radius of weight (`output`, `step`), as [`Self::phase_half_width`].
+    pub fn weight_radius(
+        form: Option<&WrittenForm>,
+        output: usize,
+        step: usize,
+        w: &Weight,
+    ) -> Option<f64> {
+        match form.and_then(|f| f.weight_radius.get(output)?.get(step).copied()) {
+            Some(r) => r,
+            None => matches!(w, Weight::Exact(_)).then_some(0.0),
+        }
+    }
 }
 
 /// A whole phase cycle.

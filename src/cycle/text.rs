@@ -2,7 +2,9 @@
 //! CSV formats: one serialised form per exact number (`"p/q"` turns, Gaussian rationals or sums of
 //! `c*exp(2*pi*i*k/n)`), and a leading `~` for values known only approximately.
 
-use crate::exact::{parse_phase, parse_weight, Cyclo, PhaseUnit, PhaseValue, WeightValue};
+use crate::exact::{
+    parse_phase_written, parse_weight_written, Cyclo, PhaseUnit, PhaseValue, WeightValue,
+};
 use num_complex::Complex64;
 
 use super::{Phase, Weight};
@@ -44,28 +46,67 @@ pub fn unit_name(unit: PhaseUnit) -> String {
 
 /// Parse one phase cell. A leading `~` marks the value approximate whatever its form.
 pub fn parse_phase_cell(text: &str, unit: PhaseUnit) -> Result<Phase, String> {
+    parse_phase_cell_written(text, unit).map(|c| c.phase)
+}
+
+/// A phase cell as read: the phase (exact ones reduced into `[0, 1)`), its written half-width
+/// in turns (`None` for a `~` cell) and the value in turns before reduction (for the unit
+/// plausibility test).
+#[derive(Clone, Debug, PartialEq)]
+pub struct PhaseCell {
+    /// The phase.
+    pub phase: Phase,
+    /// Written half-width in turns; 0 for exact forms, `None` for `~` cells.
+    pub half_width: Option<f64>,
+    /// The value in turns as written, not reduced modulo 1.
+    pub raw_turns: f64,
+}
+
+/// [`parse_phase_cell`] with the written precision (see [`PhaseCell`]).
+pub fn parse_phase_cell_written(text: &str, unit: PhaseUnit) -> Result<PhaseCell, String> {
     let (approx, body) = match text.trim().strip_prefix('~') {
         Some(rest) => (true, rest),
         None => (false, text.trim()),
     };
-    match parse_phase(body, unit).map_err(|e| e.to_string())? {
-        PhaseValue::Exact(t) if !approx => Ok(Phase::Exact(crate::exact::reduce_turn(t))),
-        PhaseValue::Exact(t) => Ok(Phase::Approx(*t.numer() as f64 / *t.denom() as f64)),
-        PhaseValue::Approx { turns } => Ok(Phase::Approx(turns)),
-    }
+    let w = parse_phase_written(body, unit).map_err(|e| e.to_string())?;
+    let half_width = (!approx).then_some(w.half_width_turns);
+    let (phase, raw_turns) = match w.value {
+        PhaseValue::Exact(t) => {
+            let raw = *t.numer() as f64 / *t.denom() as f64;
+            if approx {
+                (Phase::Approx(raw), raw)
+            } else {
+                (Phase::Exact(crate::exact::reduce_turn(t)), raw)
+            }
+        }
+        PhaseValue::Approx { turns } => (Phase::Approx(turns), turns),
+    };
+    Ok(PhaseCell {
+        phase,
+        half_width,
+        raw_turns,
+    })
 }
 
 /// Parse one weight cell. A leading `~` marks the value approximate whatever its form.
 pub fn parse_weight_cell(text: &str) -> Result<Weight, String> {
+    parse_weight_cell_written(text).map(|(w, _)| w)
+}
+
+/// [`parse_weight_cell`] with the written radius (`None` for a `~` cell).
+pub fn parse_weight_cell_written(text: &str) -> Result<(Weight, Option<f64>), String> {
     let (approx, body) = match text.trim().strip_prefix('~') {
         Some(rest) => (true, rest),
         None => (false, text.trim()),
     };
-    match parse_weight(body).map_err(|e| e.to_string())? {
-        WeightValue::Exact(c) if !approx => Ok(Weight::Exact(c)),
-        WeightValue::Exact(c) => Ok(Weight::Approx(c.to_complex())),
-        WeightValue::Approx(z) => Ok(Weight::Approx(z)),
-    }
+    let w = parse_weight_written(body).map_err(|e| e.to_string())?;
+    let radius = (!approx).then_some(w.radius);
+    let weight = match w.value {
+        WeightValue::Exact(c) if !approx => Weight::Exact(c),
+        WeightValue::Exact(c) => Weight::Approx(c.to_complex()),
+        WeightValue::Approx(z) => Weight::Approx(z),
+    };
+    Ok((weight, radius))
 }
 
 /// The file form of a phase: `"p/q"` turns (reduced, in `[0, 1)`), or `~x` decimal turns.

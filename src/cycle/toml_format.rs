@@ -4,9 +4,13 @@
 //! Reading reports file, line and key for every error; writing emits exact phases as `"p/q"`
 //! turns so that a written cycle reads back identical.
 
-use super::text::{format_phase, format_weight, parse_phase_cell, parse_unit, parse_weight_cell};
+use super::plausible::unit_warning;
+use super::text::{
+    format_phase, format_weight, parse_phase_cell_written, parse_unit, parse_weight_cell_written,
+};
 use super::{
     resolve_unit, weights_from_signature, Cycle, CycleMeta, CycleOutput, Phase, WeightSource,
+    WrittenForm,
 };
 use crate::error::InputError;
 use crate::exact::PhaseUnit;
@@ -77,12 +81,21 @@ impl Ctx<'_> {
     }
 }
 
-fn cell_text(v: &toml::Value) -> Option<String> {
-    match v {
-        toml::Value::String(s) => Some(s.clone()),
-        toml::Value::Integer(i) => Some(i.to_string()),
-        toml::Value::Float(x) => Some(x.to_string()),
-        _ => None,
+impl Ctx<'_> {
+    /// The text of a cell: a string as given, a number as written in the file (so that its
+    /// written digits keep their precision; `_` separators dropped).
+    fn cell_text(&self, v: &Spanned<toml::Value>) -> Option<String> {
+        match v.get_ref() {
+            toml::Value::String(s) => Some(s.clone()),
+            toml::Value::Integer(i) => Some(i.to_string()),
+            toml::Value::Float(x) => Some(
+                self.text
+                    .get(v.span())
+                    .filter(|t| !t.contains(['n', 'i']))
+                    .map_or_else(|| x.to_string(), |t| t.replace('_', "")),
+            ),
+            _ => None,
+        }
     }
 }
 
@@ -171,6 +184,8 @@ pub fn read_cycle_toml(
         ));
     }
     let mut steps = Vec::with_capacity(rows.len());
+    let mut half_widths = Vec::with_capacity(rows.len());
+    let mut raw_turns = vec![Vec::with_capacity(rows.len()); fields.len()];
     for (m, (span, row)) in rows.into_iter().enumerate() {
         if row.len() != fields.len() {
             return Err(ctx.err(
@@ -186,15 +201,23 @@ pub fn read_cycle_toml(
             ));
         }
         let mut out = Vec::with_capacity(row.len());
+        let mut hw = Vec::with_capacity(row.len());
         for (j, v) in row.into_iter().enumerate() {
             let key = format!("step {}, field {}", m + 1, fields[j]);
-            let t = cell_text(v.get_ref())
+            let t = ctx
+                .cell_text(&v)
                 .ok_or_else(|| ctx.err(v.span(), &key, "a phase is a string or a number"))?;
-            out.push(parse_phase_cell(&t, unit).map_err(|e| ctx.err(v.span(), &key, e))?);
+            let cell =
+                parse_phase_cell_written(&t, unit).map_err(|e| ctx.err(v.span(), &key, e))?;
+            out.push(cell.phase);
+            hw.push(cell.half_width);
+            raw_turns[j].push(cell.raw_turns);
         }
         steps.push(out);
+        half_widths.push(hw);
     }
     let mut outputs = Vec::new();
+    let mut radii = Vec::new();
     for o in raw.output {
         let ospan = o.span();
         let o = o.into_inner();
@@ -222,13 +245,18 @@ pub fn read_cycle_toml(
                     ));
                 }
                 let mut ws = Vec::with_capacity(w.len());
+                let mut rs = Vec::with_capacity(w.len());
                 for (m, v) in w.into_iter().enumerate() {
                     let key = format!("output {name}, weight of step {}", m + 1);
-                    let t = cell_text(v.get_ref()).ok_or_else(|| {
+                    let t = ctx.cell_text(&v).ok_or_else(|| {
                         ctx.err(v.span(), &key, "a weight is a string or a number")
                     })?;
-                    ws.push(parse_weight_cell(&t).map_err(|e| ctx.err(v.span(), &key, e))?);
+                    let (w, r) =
+                        parse_weight_cell_written(&t).map_err(|e| ctx.err(v.span(), &key, e))?;
+                    ws.push(w);
+                    rs.push(r);
                 }
+                radii.push(rs);
                 CycleOutput {
                     name,
                     weights: ws,
@@ -250,6 +278,7 @@ pub fn read_cycle_toml(
                         ),
                     ));
                 }
+                radii.push(Vec::new());
                 CycleOutput {
                     name,
                     weights: weights_from_signature(&steps, &s),
@@ -266,6 +295,11 @@ pub fn read_cycle_toml(
         };
         outputs.push(out);
     }
+    let warnings = fields
+        .iter()
+        .zip(&raw_turns)
+        .filter_map(|(f, r)| unit_warning(f, unit, r))
+        .collect();
     Ok(Cycle {
         fields,
         steps,
@@ -276,6 +310,12 @@ pub fn read_cycle_toml(
             made_by: c.made_by,
             experiment: c.experiment,
             notes: c.notes,
+            written: Some(WrittenForm {
+                dialect: None,
+                phase_half_width: half_widths,
+                weight_radius: radii,
+                warnings,
+            }),
         },
     })
 }

@@ -336,6 +336,7 @@ pub fn design(
         )),
         experiment: Some(exp.title.clone()),
         notes: vec![],
+        written: None,
     };
     report.cycle = Some(lattice_cycle(
         exp,
@@ -391,6 +392,7 @@ pub fn design(
                     )),
                     experiment: Some(exp.title.clone()),
                     notes: vec![summary.note.clone()],
+                    written: None,
                 };
                 let cycle = weighted_cycle(exp, &prep, &w, meta);
                 let check_req = crate::check::CheckRequest {

@@ -1,7 +1,8 @@
 //! Exact arithmetic for phase cycles: phases as rational fractions of a turn
 //! ([`turns`]), cyclotomic polynomials ([`cyclotomic`]), exact numbers in cyclotomic fields
-//! ([`cyclo`]), fast exact evaluation of cycle filters ([`filter`]) and the text forms of phases
-//! and weights used by cycle files ([`parse`]). Decisions on leakage are made here, never with
+//! ([`cyclo`]), fast exact evaluation of cycle filters ([`filter`]), the text forms of phases
+//! and weights used by cycle files with their written precision ([`parse`]) and snapping such
+//! values to the simplest exact ones ([`snap`]). Decisions on leakage are made here, never with
 //! floats; floats appear only in `to_complex`/`approx` helpers meant for display.
 //!
 //! ```
@@ -29,6 +30,7 @@ pub mod cyclo;
 pub mod cyclotomic;
 pub mod filter;
 pub mod parse;
+pub mod snap;
 pub mod turns;
 
 pub use cyclo::{Cyclo, Q};
@@ -36,8 +38,8 @@ pub use cyclotomic::{cyclotomic_polynomial, euler_phi};
 
 pub use filter::{ExactFilter, Scratch};
 pub use parse::{
-    parse_phase, parse_weight, PhaseParseError, PhaseUnit, PhaseValue, WeightParseError,
-    WeightValue,
+    parse_phase, parse_phase_written, parse_weight, parse_weight_written, PhaseParseError,
+    PhaseUnit, PhaseValue, WeightParseError, WeightValue, WrittenPhase, WrittenWeight,
 };
 pub use turns::{common_denominator, reduce_turn, snap_to_fraction, Turns};
 

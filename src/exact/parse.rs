@@ -25,6 +25,12 @@
 //! irrational number and an exact verdict on the rounded rational would mislead. Write such
 //! weights as `exp(i*pi/4)` and similar to keep them exact.
 //!
+//! **Precision:** [`parse_phase_written`] and [`parse_weight_written`] also return the interval
+//! the written digits stand for: a literal with a decimal point means half a unit in its last
+//! digit (`0.866025` is `+- 5e-7`, `2.09` rad is `+- 0.005` rad), propagated through the
+//! expression; integers, fractions and `pi` forms are exact. Scientific notation (`-9.07e-18`,
+//! `1E-3`, `1.200000000000000000e+02` as numpy's `savetxt` writes) is read everywhere.
+//!
 //! **Syntax:** implicit multiplication (`3pi`, `2i`) has the same precedence as `*` and `/`,
 //! evaluated left to right, so `1/2i` means `i/2` (as printed by [`Cyclo`]'s `Display`).
 //! Texts longer than 256 characters are refused before parsing.
@@ -219,6 +225,31 @@ fn split_unit(text: &str) -> (&str, Option<PhaseUnit>) {
 
 /// Parse one phase text in the default `unit` (a suffix overrides it). See the module docs.
 pub fn parse_phase(text: &str, unit: PhaseUnit) -> Result<PhaseValue, PhaseParseError> {
+    parse_phase_written(text, unit).map(|w| w.value)
+}
+
+/// A phase as written: its value and the half-width, in turns, of the interval its written
+/// digits stand for (half a unit in the last digit of each decimal literal, propagated; 0 for
+/// exact forms such as `1/3`, `120`, `2*pi/3`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct WrittenPhase {
+    /// The value as written.
+    pub value: PhaseValue,
+    /// Half-width of the written precision, in turns.
+    pub half_width_turns: f64,
+}
+
+/// A weight as written: its value and the radius of the disc its written digits stand for.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WrittenWeight {
+    /// The value as written.
+    pub value: WeightValue,
+    /// Radius of the written precision (0 for exact forms such as `1/27` or `exp(-i*2*pi/3)`).
+    pub radius: f64,
+}
+
+/// [`parse_phase`] that also returns the written precision (see [`WrittenPhase`]).
+pub fn parse_phase_written(text: &str, unit: PhaseUnit) -> Result<WrittenPhase, PhaseParseError> {
     if let Some(len) = check_len(text) {
         return Err(PhaseParseError::TooLong { len, max: MAX_TEXT });
     }
@@ -260,7 +291,17 @@ pub fn parse_phase(text: &str, unit: PhaseUnit) -> Result<PhaseValue, PhaseParse
         _ => return Err(PhaseParseError::PiOutsideRadians { text: owned() }),
     }
     let radians_plain = unit == PhaseUnit::Radians && v.pi_pow == 0;
-    match real {
+    // Half-width in turns: the radius scaled like the value.
+    let half_width_turns = if v.radius == 0.0 {
+        0.0
+    } else if radians_plain {
+        v.radius / std::f64::consts::TAU
+    } else if unit == PhaseUnit::Radians {
+        v.radius / 2.0
+    } else {
+        v.radius * q_to_f64(&factor)
+    };
+    let value = match real {
         Some(q) if radians_plain && !q.is_zero() => Ok(PhaseValue::Approx {
             turns: q_to_f64(&q) / std::f64::consts::TAU,
         }),
@@ -277,7 +318,11 @@ pub fn parse_phase(text: &str, unit: PhaseUnit) -> Result<PhaseValue, PhaseParse
             };
             Ok(PhaseValue::Approx { turns })
         }
-    }
+    }?;
+    Ok(WrittenPhase {
+        value,
+        half_width_turns,
+    })
 }
 
 fn to_turns(q: &Q) -> Option<PhaseValue> {
@@ -288,6 +333,11 @@ fn to_turns(q: &Q) -> Option<PhaseValue> {
 
 /// Parse one weight text. See the module docs for the forms and the rounded-decimal rule.
 pub fn parse_weight(text: &str) -> Result<WeightValue, WeightParseError> {
+    parse_weight_written(text).map(|w| w.value)
+}
+
+/// [`parse_weight`] that also returns the written precision (see [`WrittenWeight`]).
+pub fn parse_weight_written(text: &str) -> Result<WrittenWeight, WeightParseError> {
     if let Some(len) = check_len(text) {
         return Err(WeightParseError::TooLong { len, max: MAX_TEXT });
     }
@@ -313,10 +363,14 @@ pub fn parse_weight(text: &str) -> Result<WeightValue, WeightParseError> {
     if v.pi_pow != 0 {
         return Err(WeightParseError::PiOutsideExp { text: owned() });
     }
-    match v.exact {
-        Some(c) if !v.rounded_literal => Ok(WeightValue::Exact(c)),
-        _ => Ok(WeightValue::Approx(v.approx)),
-    }
+    let value = match v.exact {
+        Some(c) if !v.rounded_literal => WeightValue::Exact(c),
+        _ => WeightValue::Approx(v.approx),
+    };
+    Ok(WrittenWeight {
+        value,
+        radius: v.radius,
+    })
 }
 
 #[cfg(test)]

@@ -73,6 +73,7 @@ fn cycle_of(
             )),
             experiment: meta.experiment.clone(),
             notes: Vec::new(),
+            written: None,
         },
     })
 }

@@ -1,7 +1,11 @@
 //! Tokenizer and recursive-descent evaluator for the small expression language shared by phase
 //! and weight texts: numbers (exact decimals), `i`, `pi`, `exp(..)`, `e^..`, `+ - * /`,
 //! parentheses and implicit multiplication (same precedence as `*` and `/`, left to right, so
-//! `1/2i` is `i/2` and `3pi/4` is `3*pi/4`).
+//! `1/2i` is `i/2` and `3pi/4` is `3*pi/4`). Numbers may carry a decimal exponent (`-9.07e-18`,
+//! `1E-3`). Every value also carries the radius of its written precision: a literal with a
+//! decimal point means the interval of half a unit in its last written digit (`0.866025` is
+//! `0.866025 +- 5e-7`, `1.20e+02` is `120 +- 0.5`); integer literals (`120`, `1E-3`) are exact.
+//! Radii propagate by midpoint-radius arithmetic through `+ - * /` and `exp`.
 
 use num_bigint::BigInt;
 use num_complex::Complex64;
@@ -36,7 +40,8 @@ type R<T> = Result<T, ExprError>;
 
 #[derive(Debug, Clone, PartialEq)]
 enum Tok {
-    Num(Q, bool),
+    /// Value, looks like a rounded irrational, half unit of the last written digit (0 if exact).
+    Num(Q, bool, f64),
     I,
     Pi,
     E,
@@ -58,6 +63,9 @@ pub(crate) struct Value {
     pub pi_pow: i32,
     /// Some decimal literal looked like a rounded irrational (see `looks_rounded`).
     pub rounded_literal: bool,
+    /// Radius of the written precision: the true value lies within this distance of `approx`
+    /// (0 when every literal was exact).
+    pub radius: f64,
 }
 
 /// Evaluate `text` completely.
@@ -79,7 +87,7 @@ pub(crate) fn evaluate(text: &str) -> R<Value> {
 
 fn describe(t: &Tok) -> String {
     match t {
-        Tok::Num(q, _) => format!("number {q}"),
+        Tok::Num(q, _, _) => format!("number {q}"),
         Tok::I => "'i'".into(),
         Tok::Pi => "'pi'".into(),
         Tok::E => "'e'".into(),
@@ -109,7 +117,24 @@ fn tokenize(text: &str) -> R<Vec<Tok>> {
             while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
                 i += 1;
             }
-            let lit: String = chars[start..i].iter().collect();
+            // A decimal exponent: e/E, an optional sign, then at least one digit (so `2e^(..)`
+            // stays Euler's number).
+            if i < chars.len() && matches!(chars[i], 'e' | 'E') {
+                let mut j = i + 1;
+                if j < chars.len() && matches!(chars[j], '+' | '-' | '\u{2212}') {
+                    j += 1;
+                }
+                if j < chars.len() && chars[j].is_ascii_digit() {
+                    while j < chars.len() && chars[j].is_ascii_digit() {
+                        j += 1;
+                    }
+                    i = j;
+                }
+            }
+            let lit: String = chars[start..i]
+                .iter()
+                .map(|&c| if c == '\u{2212}' { '-' } else { c })
+                .collect();
             out.push(number(&lit)?);
             continue;
         }
@@ -148,22 +173,50 @@ fn tokenize(text: &str) -> R<Vec<Tok>> {
     Ok(out)
 }
 
-/// An exact decimal literal like `12`, `0.25`, `.5`, `3.`.
+/// Largest accepted decimal exponent magnitude (`1e400` is refused before any big power).
+const MAX_EXPONENT: i32 = 400;
+
+/// An exact decimal literal like `12`, `0.25`, `.5`, `3.`, `-9.07e-18` (sign handled by the
+/// parser), `1E-3`, with the half unit of its last written digit (0 without a decimal point).
 fn number(lit: &str) -> R<Tok> {
     let bad = || ExprError::Syntax(format!("malformed number '{lit}'"));
-    let (int, frac) = match lit.split_once('.') {
-        Some((a, b)) => (a, b),
-        None => (lit, ""),
+    let (mantissa, exponent) = match lit.find(['e', 'E']) {
+        Some(k) => {
+            let e: i32 = lit[k + 1..].parse().map_err(|_| bad())?;
+            if e.abs() > MAX_EXPONENT {
+                return Err(ExprError::Syntax(format!(
+                    "number '{lit}': exponent beyond +-{MAX_EXPONENT}"
+                )));
+            }
+            (&lit[..k], e)
+        }
+        None => (lit, 0),
+    };
+    let (int, frac, pointed) = match mantissa.split_once('.') {
+        Some((a, b)) => (a, b, true),
+        None => (mantissa, "", false),
     };
     if frac.contains('.') || (int.is_empty() && frac.is_empty()) {
         return Err(bad());
     }
     let digits = format!("{int}{frac}");
     let n = BigInt::parse_bytes(digits.as_bytes(), 10).ok_or_else(bad)?;
-    let den = BigInt::from(10u32).pow(frac.len() as u32);
-    let q = Q::new(n, den);
+    let scale = exponent - frac.len() as i32;
+    let ten = BigInt::from(10u32);
+    let q = if scale >= 0 {
+        Q::from_integer(n * ten.pow(scale as u32))
+    } else {
+        Q::new(n, ten.pow(scale.unsigned_abs()))
+    };
     let f = q.to_f64().unwrap_or(f64::INFINITY);
-    Ok(Tok::Num(q, frac.len() >= 3 && looks_rounded(f)))
+    // Half a unit in the last written digit, rounded up a little so that the interval is closed
+    // outward despite the float conversion.
+    let half = if pointed {
+        0.5 * 10f64.powi(scale) * (1.0 + 4.0 * f64::EPSILON)
+    } else {
+        0.0
+    };
+    Ok(Tok::Num(q, frac.len() >= 3 && looks_rounded(f), half))
 }
 
 /// True if `x` (>= 0) is within 1e-3 relative of an irrational value commonly typed as a
@@ -197,6 +250,16 @@ fn exact_value(c: Cyclo, pi_pow: i32) -> Value {
         exact: Some(c),
         pi_pow,
         rounded_literal: false,
+        radius: 0.0,
+    }
+}
+
+/// Round a propagated radius up by a relative margin that covers the float operations.
+fn up(r: f64) -> f64 {
+    if r == 0.0 {
+        0.0
+    } else {
+        r * (1.0 + 16.0 * f64::EPSILON)
     }
 }
 
@@ -293,9 +356,11 @@ impl Parser {
 
     fn atom(&mut self) -> R<Value> {
         match self.next() {
-            Some(Tok::Num(q, rounded)) => {
+            Some(Tok::Num(q, rounded, half)) => {
                 self.rounded |= rounded;
-                Ok(exact_value(Cyclo::from_rational(&q), 0))
+                let mut v = exact_value(Cyclo::from_rational(&q), 0);
+                v.radius = half;
+                Ok(v)
             }
             Some(Tok::I) => Ok(exact_value(Cyclo::root_of_unity(4, 1)?, 0)),
             Some(Tok::Pi) => Ok(exact_value(Cyclo::one(1)?, 1)),
@@ -350,10 +415,12 @@ fn add(a: Value, b: Value) -> R<Value> {
         approx: a.approx + b.approx,
         pi_pow,
         rounded_literal: false,
+        radius: up(a.radius + b.radius),
     })
 }
 
 fn mul(a: Value, b: Value) -> R<Value> {
+    let radius = up(a.approx.norm() * b.radius + b.approx.norm() * a.radius + a.radius * b.radius);
     let exact = match (a.exact, b.exact) {
         (Some(x), Some(y)) => Some(x.mul(&y)?),
         _ => None,
@@ -363,10 +430,20 @@ fn mul(a: Value, b: Value) -> R<Value> {
         approx: a.approx * b.approx,
         pi_pow: a.pi_pow.saturating_add(b.pi_pow),
         rounded_literal: false,
+        radius,
     })
 }
 
 fn div(a: Value, b: Value) -> R<Value> {
+    // |a/b - a'/b'| <= (ra |b| + |a| rb) / (|b| (|b| - rb)), unbounded when rb >= |b|.
+    let nb = b.approx.norm();
+    let radius = if a.radius == 0.0 && b.radius == 0.0 {
+        0.0
+    } else if b.radius < nb {
+        up((a.radius * nb + a.approx.norm() * b.radius) / (nb * (nb - b.radius)))
+    } else {
+        f64::INFINITY
+    };
     let inv = match &b.exact {
         Some(c) if c.is_zero() => return Err(ExprError::DivisionByZero),
         Some(c) => {
@@ -386,11 +463,15 @@ fn div(a: Value, b: Value) -> R<Value> {
         approx: a.approx / b.approx,
         pi_pow: a.pi_pow.saturating_sub(b.pi_pow),
         rounded_literal: false,
+        radius,
     })
 }
 
 /// `exp(v)`: exact only for `v = i * r * pi` with rational `r` (a root of unity).
 fn exp(v: Value) -> R<Value> {
+    if v.radius > 0.0 {
+        return exp_written(v);
+    }
     if v.exact.as_ref().is_some_and(Cyclo::is_zero) {
         return Ok(exact_value(Cyclo::one(1)?, 0));
     }
@@ -417,15 +498,46 @@ fn exp(v: Value) -> R<Value> {
             approx: (v.approx * std::f64::consts::PI).exp(),
             pi_pow: 0,
             rounded_literal: false,
+            radius: 0.0,
         }),
         (0, _) => Ok(Value {
             exact: None,
             approx: v.approx.exp(),
             pi_pow: 0,
             rounded_literal: false,
+            radius: 0.0,
         }),
         _ => Err(ExprError::ExpArgument),
     }
+}
+
+/// `exp(v)` of an argument known only to its written precision: the float value with the
+/// radius `|e^z| (e^(s r) - 1)` (`s = pi` for an argument in units of pi), since
+/// `|e^z' - e^z| <= |e^z| (e^|z' - z| - 1)`. Exact only when the written digits are exact.
+fn exp_written(v: Value) -> R<Value> {
+    let (z, s) = match v.pi_pow {
+        0 => (v.approx, 1.0),
+        1 => (v.approx * std::f64::consts::PI, std::f64::consts::PI),
+        _ => return Err(ExprError::ExpArgument),
+    };
+    let e = z.exp();
+    let exact = match &v.exact {
+        Some(_) => {
+            exp(Value {
+                radius: 0.0,
+                ..v.clone()
+            })?
+            .exact
+        }
+        None => None,
+    };
+    Ok(Value {
+        exact,
+        approx: e,
+        pi_pow: 0,
+        rounded_literal: false,
+        radius: up(e.norm() * (s * v.radius).exp_m1()),
+    })
 }
 
 /// Helper for callers: `Some(q)` if the exact value is a rational number.
