@@ -77,8 +77,11 @@ fn bench(label: &str, n: usize, order: u32, population_order: u32) {
         .collect();
     let c = nested(n - 1, 5, &t);
     let req = CheckRequest {
-        order: Some(order),
-        leak_search_to: Some(order),
+        selection: pathsieve::selection::SelectionRequest {
+            order: Some(order),
+            leak_search_to: Some(order),
+            ..Default::default()
+        },
         ..CheckRequest::default()
     };
     let reps = 5;

@@ -45,4 +45,5 @@ pub mod model;
 pub mod pathways;
 pub mod render;
 pub mod safe_write;
+pub mod selection;
 pub mod signature;

@@ -3,7 +3,7 @@
 //! change nothing), tolerance figures and bad input.
 
 use pathsieve::check::{
-    check_cycle, CheckRequest, InseparableKind, RejectionSource, ToleranceRequest,
+    check_cycle, CheckOptions, CheckRequest, InseparableKind, ToleranceRequest,
 };
 use pathsieve::cycle::{
     read_cycle, read_cycle_csv, read_cycle_toml, weights_from_signature, write_cycle_csv,
@@ -12,6 +12,7 @@ use pathsieve::cycle::{
 use pathsieve::exact::{Cyclo, ExactFilter, PhaseUnit, Turns};
 use pathsieve::experiment_file::{parse_experiment, read_experiment};
 use pathsieve::model::Experiment;
+use pathsieve::selection::{RejectionSource, SelectionRequest};
 use pathsieve::signature::Signature;
 use proptest::prelude::*;
 use std::path::Path;
@@ -120,8 +121,9 @@ fn pump_probe_2x2_keeps_r_plus_nr_and_removes_background_and_scatter() {
     // The same table without the geometry filter: the background and scatter terms are
     // still cancelled; what leaks is the collinear 2Q-type term (1,1,-2).
     let req = CheckRequest {
-        source: RejectionSource::Agnostic {
+        selection: SelectionRequest {
             geometry: Some(false),
+            ..SelectionRequest::default()
         },
         ..CheckRequest::default()
     };
@@ -167,7 +169,10 @@ fn rephasing_alone_in_pump_probe_is_reported_inseparable_from_nr() {
 fn cogwheel_23_selects_the_triple_quantum_pathway_among_all_orders() {
     let e = exp("nmr-spin32-mqmas.toml");
     let req = CheckRequest {
-        source: RejectionSource::FromPathways,
+        selection: SelectionRequest {
+            source: RejectionSource::FromPathways,
+            ..SelectionRequest::default()
+        },
         ..CheckRequest::default()
     };
     let r = check_cycle(&e, &cycle("nmr-cog23.cycle.toml"), &req).unwrap();
@@ -218,10 +223,13 @@ fn written_cycles_read_back_identical() {
 #[test]
 fn tolerance_analysis_matches_hand_values() {
     let req = CheckRequest {
-        tolerance: Some(ToleranceRequest {
-            delta_turns: 1.0 / 360.0,
-            bits: Some(1),
-        }),
+        options: CheckOptions {
+            tolerance: Some(ToleranceRequest {
+                delta_turns: 1.0 / 360.0,
+                bits: Some(1),
+            }),
+            ..CheckOptions::default()
+        },
         ..CheckRequest::default()
     };
     let r = check_cycle(
@@ -246,10 +254,13 @@ fn tolerance_analysis_matches_hand_values() {
     }
     // A 1/3-turn grid is not representable at 8 bits: quantisation leaks a little.
     let req = CheckRequest {
-        tolerance: Some(ToleranceRequest {
-            delta_turns: 0.0,
-            bits: Some(8),
-        }),
+        options: CheckOptions {
+            tolerance: Some(ToleranceRequest {
+                delta_turns: 0.0,
+                bits: Some(8),
+            }),
+            ..CheckOptions::default()
+        },
         ..CheckRequest::default()
     };
     let r = check_cycle(
@@ -281,9 +292,12 @@ fn decimal_radians_snap_with_a_note() {
     assert!(r.clean && r.exact);
     assert!(r.notes.iter().any(|n| n.contains("snapped")));
     let req = CheckRequest {
-        snap: pathsieve::check::SnapPolicy {
-            enabled: false,
-            ..Default::default()
+        options: CheckOptions {
+            snap: pathsieve::check::SnapPolicy {
+                enabled: false,
+                ..Default::default()
+            },
+            ..CheckOptions::default()
         },
         ..CheckRequest::default()
     };
@@ -385,7 +399,10 @@ fn leak_set(e: &Experiment, c: &Cycle) -> Vec<Signature> {
         e,
         c,
         &CheckRequest {
-            leak_search_to: Some(2),
+            selection: SelectionRequest {
+                leak_search_to: Some(2),
+                ..SelectionRequest::default()
+            },
             ..CheckRequest::default()
         },
     )

@@ -4,26 +4,41 @@
 mod common;
 
 use common::{exp, pulses, LADDER, TWO_LEVEL};
-use pathsieve::check::{check_cycle, CheckRequest, RejectionSource as CheckSource};
+use pathsieve::check::{check_cycle, CheckOptions, CheckRequest};
 use pathsieve::design::lattice::{is_valid, sublattices, SearchControl};
-use pathsieve::design::{
-    design, prepare, DesignKind, DesignReport, DesignRequest, Impossibility, RejectionSource,
-};
+use pathsieve::design::{design, prepare, DesignKind, DesignOptions, DesignReport, Impossibility};
 use pathsieve::experiment_file::read_experiment;
+use pathsieve::selection::{RejectionSource, Selection, SelectionRequest};
 use proptest::prelude::*;
 use std::sync::atomic::AtomicBool;
 
-fn run(e: &pathsieve::model::Experiment, req: &DesignRequest) -> DesignReport {
-    let cancel = AtomicBool::new(false);
-    design(e, req, &SearchControl::new(&cancel)).expect("design runs")
+fn run(e: &pathsieve::model::Experiment, req: &SelectionRequest) -> DesignReport {
+    run_with(e, req, &DesignOptions::default())
 }
 
-fn assert_passes_checker(e: &pathsieve::model::Experiment, r: &DesignReport, source: CheckSource) {
+fn run_with(
+    e: &pathsieve::model::Experiment,
+    req: &SelectionRequest,
+    opts: &DesignOptions,
+) -> DesignReport {
+    let cancel = AtomicBool::new(false);
+    let sel = Selection::new(e, req).expect("selection");
+    design(&sel, opts, &SearchControl::new(&cancel)).expect("design runs")
+}
+
+fn assert_passes_checker(
+    e: &pathsieve::model::Experiment,
+    r: &DesignReport,
+    source: RejectionSource,
+) {
     let cycle = r.cycle.as_ref().expect("a cycle");
     let req = CheckRequest {
-        order: Some(r.order),
-        source,
-        ..CheckRequest::default()
+        selection: SelectionRequest {
+            order: Some(r.order),
+            source,
+            ..SelectionRequest::default()
+        },
+        options: CheckOptions::default(),
     };
     let report = check_cycle(e, cycle, &req).expect("check runs");
     assert!(report.exact, "verdict must be exact");
@@ -48,19 +63,19 @@ fn fluorescence_detected_r_nr_2q_needs_no_more_than_the_published_27_steps() {
     // Tan, J. Chem. Phys. 129, 124501 (2008) (memory): nested 1x3x3x3 = 27 steps yields R, NR
     // and 2Q from one data set in collinear fluorescence-detected 2D.
     let e = read_experiment(&common::scheme("dye-fluorescence-2d.toml")).unwrap();
-    let r = run(&e, &DesignRequest::default());
+    let r = run(&e, &SelectionRequest::default());
     let n = r.steps.expect("a design");
     assert!(n <= 27, "{n} steps");
     assert!(r.proven_minimal);
     assert_eq!(r.nested_steps, Some(27));
-    assert_passes_checker(&e, &r, CheckSource::Agnostic { geometry: None });
+    assert_passes_checker(&e, &r, RejectionSource::Agnostic);
 }
 
 #[test]
 fn pump_probe_absorptive_with_pump_scatter_takes_four_steps() {
     // Common practice in shaper-based 2D IR/visible: a 2x2 cycle of {0, 1/2} turn on both pumps.
     let e = read_experiment(&common::scheme("carbonyl-pump-probe.toml")).unwrap();
-    let r = run(&e, &DesignRequest::default());
+    let r = run(&e, &SelectionRequest::default());
     assert_eq!(r.steps, Some(4));
     assert!(r.proven_minimal);
     assert_eq!(
@@ -69,7 +84,7 @@ fn pump_probe_absorptive_with_pump_scatter_takes_four_steps() {
             steps_per_field: vec![2, 2]
         })
     );
-    assert_passes_checker(&e, &r, CheckSource::Agnostic { geometry: None });
+    assert_passes_checker(&e, &r, RejectionSource::Agnostic);
 }
 
 #[test]
@@ -79,7 +94,7 @@ fn rephasing_alone_in_pump_probe_geometry_is_refused_with_the_reason() {
         "order = 3\n[detection]\nmode = \"pump-probe\"\n{}{LADDER}[[signal]]\nname = \"R\"\nclasses = [\"rephasing\"]\n",
         pulses(3, false).replace("name = \"3\"\n", "name = \"3\"\nphase = \"fixed\"\n")
     ));
-    let r = run(&e, &DesignRequest::default());
+    let r = run(&e, &SelectionRequest::default());
     assert_eq!(r.steps, None);
     assert!(r.cycle.is_none());
     let why = r.impossible.iter().find_map(|i| match i {
@@ -100,9 +115,9 @@ fn spin_three_halves_mqmas_needs_no_more_than_cog23() {
     // Goldbourt & Madhu, Annu. Rep. NMR Spectrosc. 54, 81 (2005): Cog23(-3,0,1,11) selects
     // 0 -> +3 -> +1 -> -1 among all coherence orders |p| <= 3.
     let e = read_experiment(&common::scheme("nmr-spin32-mqmas.toml")).unwrap();
-    let req = DesignRequest {
-        rejection: RejectionSource::Pathways,
-        ..DesignRequest::default()
+    let req = SelectionRequest {
+        source: RejectionSource::FromPathways,
+        ..SelectionRequest::default()
     };
     let r = run(&e, &req);
     let n = r.steps.expect("a design");
@@ -113,7 +128,7 @@ fn spin_three_halves_mqmas_needs_no_more_than_cog23() {
         "{:?}",
         r.kind
     );
-    assert_passes_checker(&e, &r, CheckSource::FromPathways);
+    assert_passes_checker(&e, &r, RejectionSource::FromPathways);
 }
 
 #[test]
@@ -123,9 +138,9 @@ fn an_aliasing_grid_is_refused_with_a_finer_grid_suggested() {
     let e = read_experiment(&common::scheme("dye-fluorescence-2d.toml")).unwrap();
     let r = run(
         &e,
-        &DesignRequest {
+        &SelectionRequest {
             grid: Some(vec![2]),
-            ..DesignRequest::default()
+            ..SelectionRequest::default()
         },
     );
     assert_eq!(r.steps, None);
@@ -157,12 +172,13 @@ proptest! {
     #[test]
     fn every_design_passes_the_exact_checker_and_no_smaller_lattice_exists((text, grid) in random_case()) {
         let e = exp(&text);
-        let req = DesignRequest { grid: (grid > 0).then(|| vec![grid]), max_steps: 200, beyond_budget: std::time::Duration::from_millis(200), ..DesignRequest::default() };
-        let r = run(&e, &req);
+        let req = SelectionRequest { grid: (grid > 0).then(|| vec![grid]), ..SelectionRequest::default() };
+        let opts = DesignOptions { max_steps: 200, beyond_budget: std::time::Duration::from_millis(200), ..DesignOptions::default() };
+        let r = run_with(&e, &req, &opts);
         if let Some(n) = r.steps {
-            assert_passes_checker(&e, &r, CheckSource::Agnostic { geometry: None });
+            assert_passes_checker(&e, &r, RejectionSource::Agnostic);
             // Brute force over every sublattice of smaller index (small problems only).
-            let prep = prepare(&e, &req).unwrap();
+            let prep = prepare(&Selection::new(&e, &req).unwrap(), &opts).unwrap();
             if prep.problem.dims <= 3 && n <= 30 {
                 for m in 1..n {
                     for l in sublattices(prep.problem.dims, m) {
@@ -183,11 +199,12 @@ fn a_weighted_step_set_beats_every_lattice_when_only_the_two_quantum_pump_term_m
     // 4-step grid needs 4 steps (c must divide 4 but not 2).
     use pathsieve::design::weighted_stage::{search_below, weighted_cycle};
     let e = read_experiment(&common::scheme("single-pump-probe.toml")).unwrap();
-    let req = DesignRequest {
+    let req = SelectionRequest {
         grid: Some(vec![4]),
-        ..DesignRequest::default()
+        ..SelectionRequest::default()
     };
-    let mut prep = prepare(&e, &req).unwrap();
+    let sel = Selection::new(&e, &req).unwrap();
+    let mut prep = prepare(&sel, &DesignOptions::default()).unwrap();
     prep.problem.rejected = vec![vec![2], vec![-2]];
     let cancel = AtomicBool::new(false);
     let lattice = pathsieve::design::lattice::Lattice::from_generators(1, &[vec![4]]).unwrap();

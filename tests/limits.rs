@@ -6,8 +6,9 @@ mod common;
 
 use common::{exp, pulses, LADDER, TWO_LEVEL};
 use pathsieve::agnostic::agnostic_set;
-use pathsieve::design::{prepare, DesignRequest};
+use pathsieve::design::cycled_fields;
 use pathsieve::pathways::{count_pathways, for_each_pathway, resolve_signals, summarize, Scope};
+use pathsieve::selection::{RejectionSource, Selection, SelectionRequest};
 
 /// Nine pulses and an LO (ten fields, all cycled: nine after the global phase), keeping R.
 fn ten_fields(order: u32) -> String {
@@ -23,14 +24,16 @@ fn the_designer_refuses_too_many_cycled_fields_before_building_the_agnostic_set(
     // cycled-field limit must answer first, and the agnostic set's own limit must refuse it
     // on its own too.
     let e = exp(&ten_fields(9));
-    let req = DesignRequest {
+    let req = SelectionRequest {
         order: Some(11),
-        ..DesignRequest::default()
+        ..SelectionRequest::default()
     };
     let started = std::time::Instant::now();
-    let err = prepare(&e, &req).unwrap_err().to_string();
+    let err = cycled_fields(&e).unwrap_err().to_string();
     assert!(err.contains("cycled fields"), "{err}");
     assert!(err.contains("phase = \"fixed\""), "names the fix: {err}");
+    let err = Selection::new(&e, &req).unwrap_err().to_string();
+    assert!(err.contains("agnostic set over 10 fields"), "{err}");
     let err = agnostic_set(&e, 11, &[], false).unwrap_err().to_string();
     assert!(err.contains("agnostic set over 10 fields"), "{err}");
     assert!(err.contains("3685123 terms"), "{err}");
@@ -70,11 +73,11 @@ fn every_enumeration_entry_point_refuses_an_oversize_request_before_visiting() {
     assert!(count_pathways(&e, Scope::Through(11)).is_err());
     assert!(summarize(&e, Scope::Signal, true, &[]).is_err());
     assert!(resolve_signals(&e).is_err());
-    let req = DesignRequest {
-        rejection: pathsieve::design::RejectionSource::Pathways,
-        ..DesignRequest::default()
+    let req = SelectionRequest {
+        source: RejectionSource::FromPathways,
+        ..SelectionRequest::default()
     };
-    assert!(prepare(&e, &req).is_err());
+    assert!(Selection::new(&e, &req).is_err());
     assert!(started.elapsed().as_secs() < 5, "refused before work");
     // A small request passes the same gate: the ladder's 8 third-order pathways (Hamm &
     // Zanni, Concepts and Methods of 2D Infrared Spectroscopy, 2011, ch. 4 (memory)).

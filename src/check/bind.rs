@@ -8,7 +8,8 @@ use super::CheckError;
 use crate::cycle::{weights_from_signature, Cycle, Phase, Weight, WeightSource};
 use crate::exact::Turns;
 use crate::model::{Experiment, PhaseControl};
-use crate::pathways::{resolve_signals, Contamination};
+use crate::pathways::Contamination;
+use crate::selection::Selection;
 use crate::signature::Signature;
 
 /// How approximate phases are turned into exact ones.
@@ -139,12 +140,13 @@ impl BoundCycle {
     }
 }
 
-/// Map `cycle` onto `exp`.
+/// Map `cycle` onto the selection's experiment and outputs.
 pub fn bind_cycle(
-    exp: &Experiment,
+    sel: &Selection,
     cycle: &Cycle,
     snap: &SnapPolicy,
 ) -> Result<BoundCycle, CheckError> {
+    let exp = &sel.experiment;
     let names = exp.field_names();
     let fixed: Vec<bool> = exp
         .fields
@@ -230,7 +232,7 @@ pub fn bind_cycle(
         Some(col.iter().map(|c| c.map_or(1, |c| u64::from(g[c]))).collect())
     });
     let phases = sp.phases;
-    let outputs = bind_outputs(exp, cycle, &col, &phases, snap, &mut snaps, &mut notes)?;
+    let outputs = bind_outputs(sel, cycle, &col, &phases, snap, &mut snaps, &mut notes)?;
     if !snaps.is_empty() {
         notes.push(format!(
             "{} cell(s) snapped to the simplest exact value within their written precision; the verdict is exact for the snapped table (snaps listed)",
@@ -249,7 +251,7 @@ pub fn bind_cycle(
 }
 
 fn bind_outputs(
-    exp: &Experiment,
+    sel: &Selection,
     cycle: &Cycle,
     col: &[Option<usize>],
     phases: &[Vec<Phase>],
@@ -257,7 +259,7 @@ fn bind_outputs(
     snaps: &mut Vec<Snap>,
     notes: &mut Vec<String>,
 ) -> Result<Vec<BoundOutput>, CheckError> {
-    let resolved = resolve_signals(exp)?;
+    let (exp, resolved) = (&sel.experiment, &sel.outputs);
     let wanted_names: Vec<String> = resolved.iter().map(|r| r.name.clone()).collect();
     let embed = |t: &Signature| -> Signature {
         Signature(col.iter().map(|c| c.map_or(0, |c| t.0[c])).collect())
@@ -273,13 +275,13 @@ fn bind_outputs(
         for r in resolved {
             let t = r.kept[0].clone();
             out.push(BoundOutput {
-                name: r.name,
+                name: r.name.clone(),
                 weight_radius: vec![0.0; phases.len()],
                 derived_from: Some(t.clone()),
                 weights: weights_from_signature(phases, &t.0),
                 source: WeightSource::FromSignature(t),
-                kept: r.kept,
-                contamination: r.contamination,
+                kept: r.kept.clone(),
+                contamination: r.contamination.clone(),
             });
         }
         return Ok(out);

@@ -4,13 +4,12 @@
 //! precision ([`NumericFilter::bound`]), and the verdict class says which.
 
 use super::bind::{BoundCycle, BoundOutput};
-use super::rejected::Origin;
-use super::{first_leak, inseparable, tolerance};
-use super::{CheckError, CheckRequest, ConjugateTerm, KeptTerm, Leak, OutputReport};
+use super::{inseparable, tolerance};
+use super::{CheckError, CheckOptions, ConjugateTerm, FirstLeak, KeptTerm, Leak, OutputReport};
 use crate::cycle::{Weight, WeightSource};
 use crate::exact::{Cyclo, ExactFilter};
 use crate::model::Experiment;
-use crate::signature::Signature;
+use crate::selection::{Origin, Term};
 use num_complex::Complex64;
 use serde::Serialize;
 
@@ -203,17 +202,16 @@ pub fn float_filter(phases: &[Vec<f64>], weights: &[Complex64], b: &[i64]) -> Co
         .sum()
 }
 
-/// Check one output: kept terms, conjugates, leaks, first leak, inseparable pairs, tolerance.
-#[allow(clippy::too_many_arguments)]
+/// Check one output: kept terms, conjugates, leaks, inseparable pairs, tolerance; `first` is
+/// its first leak as the selection's search found it.
 pub fn check_output(
     exp: &Experiment,
     bound: &BoundCycle,
     out: &BoundOutput,
     ev: &Evaluator,
-    set: &[(Signature, Origin)],
-    req: &CheckRequest,
-    search_to: u32,
-    geometry: bool,
+    set: &[Term],
+    first: Option<FirstLeak>,
+    req: &CheckOptions,
 ) -> Result<OutputReport, CheckError> {
     let n = out.weights.len() as f64;
     let sum_sq: f64 = out.weights.iter().map(|w| w.to_complex().norm_sqr()).sum();
@@ -242,7 +240,12 @@ pub fn check_output(
     let mut conjugates = Vec::new();
     let mut leaks = Vec::new();
     let mut leak_count = 0usize;
-    for (b, origin) in set {
+    for Term {
+        signature: b,
+        origin,
+        ..
+    } in set
+    {
         let zero = ev.is_zero(&b.0)?;
         if *origin == Origin::Conjugate {
             conjugates.push(ConjugateTerm {
@@ -271,9 +274,8 @@ pub fn check_output(
     }
     let rounding_bound = set
         .iter()
-        .filter_map(|(b, _)| ev.bound(&b.0))
+        .filter_map(|t| ev.bound(&t.signature.0))
         .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))));
-    let first = first_leak::first_leak(exp, ev, &out.kept, search_to, geometry)?;
     let insep = inseparable::find(exp, bound, out, &leaks, &conjugates);
     let tol = req
         .tolerance

@@ -1,9 +1,10 @@
-//! The exact cycle checker (`pathsieve check`): binds a [`Cycle`] to an [`Experiment`], builds
-//! each output's rejection set, and reports what the cycle keeps, what leaks (with exact
-//! values), the first leak order, the conjugate terms of real detection, inseparable pairs,
-//! noise efficiency, the phases used and, on request, a floating-point tolerance analysis.
-//! This module owns the request and report types and the orchestration; the work is done in
-//! [`bind`], [`evaluate`], [`rejected`], [`first_leak`], [`inseparable`] and [`tolerance`].
+//! The exact cycle checker (`pathsieve check`): binds a [`Cycle`] to a [`Selection`] (the
+//! experiment with its kept and rejected terms, built once for every command), and reports
+//! what the cycle keeps, what leaks (with exact values), the first leak order, the conjugate
+//! terms of real detection, inseparable pairs, noise efficiency, the phases used and, on
+//! request, a floating-point tolerance analysis. This module owns the options and report
+//! types and the orchestration; the work is done in [`bind`], [`evaluate`], [`inseparable`]
+//! and [`tolerance`]; the rejection sets and the first-leak search come from the selection.
 //!
 //! ```
 //! use pathsieve::check::{check_cycle, CheckRequest};
@@ -39,9 +40,7 @@
 
 pub mod bind;
 pub mod evaluate;
-pub mod first_leak;
 pub mod inseparable;
-pub mod rejected;
 pub mod snap_cells;
 pub mod tolerance;
 
@@ -49,18 +48,15 @@ use crate::cycle::Cycle;
 use crate::error::ModelError;
 use crate::exact::ExactError;
 use crate::model::Experiment;
+use crate::selection::{LeakMeasure, Origin, Selection, SelectionError, SelectionRequest};
 use crate::signature::Signature;
 use serde::Serialize;
 
 pub use bind::{bind_cycle, BoundCycle, BoundOutput, SnapPolicy};
 pub use evaluate::{Evaluator, NumericFilter, Value, VerdictClass};
 pub use inseparable::{Inseparable, InseparableKind};
-pub use rejected::{Origin, RejectionSource};
 pub use snap_cells::Snap;
 pub use tolerance::{ToleranceReport, ToleranceRequest};
-
-/// Default number of orders above the requested one searched for the first leak.
-pub const DEFAULT_LEAK_SEARCH_EXTRA: u32 = 4;
 /// Default cap on the number of leaks listed per output (all are counted).
 pub const DEFAULT_MAX_LISTED: usize = 1000;
 
@@ -86,20 +82,17 @@ pub enum CheckError {
     /// From the experiment model (e.g. an oversize agnostic set).
     #[error(transparent)]
     Model(#[from] ModelError),
+    /// From building the selection (order, grid, set sizes).
+    #[error(transparent)]
+    Selection(#[from] SelectionError),
     /// From the exact-arithmetic layer.
     #[error(transparent)]
     Exact(#[from] ExactError),
 }
 
-/// What to check and how.
+/// How to check (what to check is the [`Selection`]).
 #[derive(Clone, Debug, PartialEq)]
-pub struct CheckRequest {
-    /// Order K of the rejection set (default: the experiment's order).
-    pub order: Option<u32>,
-    /// Agnostic set (with or without the geometry filter) or the enumerated pathways.
-    pub source: RejectionSource,
-    /// Search the first leak up to this order (default: order + 4, capped by the limits).
-    pub leak_search_to: Option<u32>,
+pub struct CheckOptions {
     /// How approximate phases are handled.
     pub snap: SnapPolicy,
     /// Floating-point tolerance analysis, if wanted.
@@ -108,17 +101,23 @@ pub struct CheckRequest {
     pub max_listed: usize,
 }
 
-impl Default for CheckRequest {
+impl Default for CheckOptions {
     fn default() -> Self {
-        CheckRequest {
-            order: None,
-            source: RejectionSource::Agnostic { geometry: None },
-            leak_search_to: None,
+        CheckOptions {
             snap: SnapPolicy::default(),
             tolerance: None,
             max_listed: DEFAULT_MAX_LISTED,
         }
     }
+}
+
+/// A selection request and check options together, for [`check_cycle`].
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct CheckRequest {
+    /// What the cycle must keep and cancel.
+    pub selection: SelectionRequest,
+    /// How to check.
+    pub options: CheckOptions,
 }
 
 /// Phases of one field used by the cycle.
@@ -181,8 +180,8 @@ pub struct Leak {
 pub struct FirstLeak {
     /// The order K (NMR: the largest |coherence order| on the leaking path).
     pub order: u32,
-    /// What `order` counts: `order` (interactions) or `coherence level |p|` (NMR).
-    pub measure: String,
+    /// What `order` counts: interactions or the NMR coherence level.
+    pub measure: LeakMeasure,
     /// One leaking signature at that order.
     pub signature: Signature,
     /// `|F(b)|` of it.
@@ -215,7 +214,7 @@ pub struct OutputReport {
     pub leak_count: usize,
     /// Leaks, lowest `sum |b|` first (at most `max_listed`).
     pub leaks: Vec<Leak>,
-    /// First leak order among the agnostic sets searched.
+    /// First leak among the selection's terms through the leak-search bound.
     pub first_leak: Option<FirstLeak>,
     /// Pairs no cycle (on any grid, or on this grid) can separate.
     pub inseparable: Vec<Inseparable>,
@@ -245,6 +244,8 @@ pub struct CheckReport {
     pub rejection: String,
     /// First-leak search bound actually used.
     pub leak_search_to: u32,
+    /// What the leak orders count (interactions, or the NMR coherence level).
+    pub leak_measure: LeakMeasure,
     /// True when every verdict is exact.
     pub exact: bool,
     /// Notes on snapping, numeric evaluation, limits, the table's dialect and unit warnings.
@@ -261,56 +262,54 @@ pub struct CheckReport {
     pub clean: bool,
 }
 
-/// Check a cycle against an experiment.
+/// Build the selection of `exp` for `req.selection` and check `cycle` against it.
+///
+/// # Errors
+/// [`CheckError`] for a bad request or a cycle that does not fit the experiment.
 pub fn check_cycle(
     exp: &Experiment,
     cycle: &Cycle,
     req: &CheckRequest,
 ) -> Result<CheckReport, CheckError> {
-    let k = req.order.unwrap_or(exp.order);
-    if k > crate::limits::MAX_ORDER {
-        return Err(CheckError::BadRequest(format!(
-            "order {k} is above the limit {}; use 0..={}",
-            crate::limits::MAX_ORDER,
-            crate::limits::MAX_ORDER
-        )));
-    }
-    let bound = bind_cycle(exp, cycle, &req.snap)?;
+    check(&Selection::new(exp, &req.selection)?, cycle, &req.options)
+}
+
+/// Check a cycle against a selection.
+///
+/// # Errors
+/// [`CheckError`] when the cycle does not fit the experiment.
+pub fn check(
+    sel: &Selection,
+    cycle: &Cycle,
+    opts: &CheckOptions,
+) -> Result<CheckReport, CheckError> {
+    let exp = &sel.experiment;
+    let bound = bind_cycle(sel, cycle, &opts.snap)?;
     let mut notes = bound.notes.clone();
-    // NMR: every detected term carries the receiver, so the optical agnostic set (which holds
-    // b = 0 and misses high coherence jumps) does not apply; use the coherence pathways.
-    let nmr_req;
-    let req = if matches!(exp.detection, crate::model::Detection::Nmr { .. })
-        && matches!(req.source, RejectionSource::Agnostic { .. })
-    {
-        notes.push("NMR detection: the rejection set is every coherence-transfer pathway of the spin system (as --from-pathways); the optical agnostic set does not apply".into());
-        nmr_req = CheckRequest {
-            source: RejectionSource::FromPathways,
-            ..req.clone()
-        };
-        &nmr_req
-    } else {
-        req
-    };
-    if let Ok(resolved) = crate::pathways::resolve_signals(exp) {
-        notes.extend(
-            crate::caveats::caveats(exp, &resolved)
-                .into_iter()
-                .map(|c| format!("cannot be cycled away: {c}")),
-        );
-    }
-    let geometry = req.source.geometry(exp);
-    let (search_to, search_note) = first_leak::search_bound(exp, k, req.leak_search_to)?;
-    notes.extend(search_note);
-    if matches!(req.source, RejectionSource::FromPathways) {
-        notes.push("rejection set: the enumerated pathways through the order and their conjugates; scatter terms are not in it (the default agnostic set covers them)".into());
-    }
+    notes.extend(selection_notes(sel));
     let mut outputs = Vec::new();
     for (oi, out) in bound.outputs.iter().enumerate() {
         let ev = Evaluator::new(&bound, out)?;
-        let set = rejected::rejection_set(exp, &bound, oi, k, &req.source)?;
+        let others: Vec<(&str, &[Signature])> = bound
+            .outputs
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| *j != oi)
+            .map(|(_, o)| (o.name.as_str(), o.kept.as_slice()))
+            .collect();
+        let set = sel.rejection_for(&out.kept, &others);
+        let first = sel
+            .first_leak(&sel.search_set_for(&out.kept, &others), |b| {
+                ev.is_zero(&b.0).map(|z| !z)
+            })?
+            .map(|f| FirstLeak {
+                abs: ev.approx(&f.signature.0).norm(),
+                order: f.order,
+                measure: f.measure,
+                signature: f.signature,
+            });
         outputs.push(evaluate::check_output(
-            exp, &bound, out, &ev, &set, req, search_to, geometry,
+            exp, &bound, out, &ev, &set, first, opts,
         )?);
     }
     let exact = outputs.iter().all(|o| o.exact);
@@ -324,9 +323,10 @@ pub fn check_cycle(
         fields: exp.field_names(),
         detection: exp.detection.label().to_string(),
         steps: cycle.len(),
-        order: k,
-        rejection: req.source.describe(exp, k),
-        leak_search_to: search_to,
+        order: sel.order,
+        rejection: describe_rejection(sel),
+        leak_search_to: sel.leak_search.to,
+        leak_measure: sel.leak_search.measure,
         exact,
         notes,
         snaps: bound.snaps.clone(),
@@ -335,4 +335,48 @@ pub fn check_cycle(
         first_leak_order,
         clean,
     })
+}
+
+/// Notes on the selection: NMR rules, caveats, a lowered leak search.
+fn selection_notes(sel: &Selection) -> Vec<String> {
+    let mut notes = Vec::new();
+    if sel.is_nmr() {
+        notes.push("NMR detection: the rejection set is every coherence-transfer pathway of the spin system, by coherence level; the optical agnostic set does not apply".into());
+    }
+    notes.extend(
+        crate::caveats::caveats(&sel.experiment, &sel.outputs)
+            .into_iter()
+            .map(|c| format!("cannot be cycled away: {c}")),
+    );
+    let s = &sel.leak_search;
+    if s.to < s.wanted {
+        notes.push(format!(
+            "first-leak search lowered from {} {} to {}: the set above it exceeds the search limits",
+            s.measure.label(),
+            s.wanted,
+            s.to
+        ));
+    }
+    notes
+}
+
+/// One line for the report: what the rejection set is.
+pub fn describe_rejection(sel: &Selection) -> String {
+    let exp = &sel.experiment;
+    let k = sel.order;
+    let geometry = if sel.geometry {
+        ", coherent terms phase-matched by the beam geometry (pair and scatter terms always)"
+    } else {
+        ""
+    };
+    match sel.source {
+        _ if sel.is_nmr() => format!("coherence-transfer pathways through coherence level {k}"),
+        crate::selection::RejectionSource::Agnostic => format!(
+            "agnostic set through order {k} (sum b = 0, sum |b| <= {}){geometry}",
+            k + u32::from(exp.has_reference()),
+        ),
+        crate::selection::RejectionSource::FromPathways => format!(
+            "enumerated pathways through order {k} and their conjugates, the reference alone and every scatter pair{geometry}"
+        ),
+    }
 }

@@ -6,8 +6,8 @@
 
 use super::bind::{BoundCycle, BoundOutput};
 use super::evaluate::float_filter;
-use super::rejected::Origin;
 use crate::cycle::Weight;
+use crate::selection::Term;
 use crate::signature::Signature;
 use num_complex::Complex64;
 use serde::Serialize;
@@ -71,7 +71,7 @@ fn top(mut v: Vec<TermFigure>) -> (f64, Vec<TermFigure>) {
 pub fn analyse(
     bound: &BoundCycle,
     out: &BoundOutput,
-    set: &[(Signature, Origin)],
+    set: &[Term],
     ref_abs: f64,
     req: &ToleranceRequest,
 ) -> ToleranceReport {
@@ -92,7 +92,7 @@ pub fn analyse(
             .map(|r| r.iter().map(|p| (p * m).round() / m).collect())
             .collect()
     });
-    for (b, _) in set {
+    for Term { signature: b, .. } in set {
         let f = float_filter(&phases, &w, &b.0);
         // Only cycled fields err; fixed fields keep one phase throughout.
         let (l1, l2sq) =

@@ -6,11 +6,12 @@ use super::output::{print, print_json, table, RejectionArgs};
 use anyhow::{bail, Context};
 use clap::Args;
 use pathsieve::check::{
-    check_cycle, CheckReport, CheckRequest, RejectionSource, SnapPolicy, ToleranceRequest,
+    check_cycle, CheckOptions, CheckReport, CheckRequest, SnapPolicy, ToleranceRequest,
 };
 use pathsieve::cycle::{read_cycle, text::parse_unit};
 use pathsieve::exact::{parse_phase, PhaseUnit, PhaseValue};
 use pathsieve::experiment_file::read_experiment;
+use pathsieve::selection::SelectionRequest;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -100,18 +101,15 @@ fn request(a: &CheckArgs) -> anyhow::Result<CheckRequest> {
         }
     };
     Ok(CheckRequest {
-        order: a.rejection.order,
-        source: if a.rejection.from_pathways {
-            RejectionSource::FromPathways
-        } else {
-            RejectionSource::Agnostic {
-                geometry: a.rejection.no_geometry.then_some(false),
-            }
+        selection: SelectionRequest {
+            leak_search_to: a.leak_search,
+            ..a.rejection.request()
         },
-        leak_search_to: a.leak_search,
-        snap,
-        tolerance,
-        max_listed: a.max_listed,
+        options: CheckOptions {
+            snap,
+            tolerance,
+            max_listed: a.max_listed,
+        },
     })
 }
 
@@ -213,12 +211,7 @@ fn render(r: &CheckReport) -> String {
             ]);
         }
         for l in &o.leaks {
-            let origin = match &l.origin {
-                pathsieve::check::Origin::OtherOutput(n) => format!("output {n}"),
-                pathsieve::check::Origin::Agnostic => format!("order {}", l.order),
-                pathsieve::check::Origin::Pathway => "pathway".into(),
-                pathsieve::check::Origin::Conjugate => "conjugate".into(),
-            };
+            let origin = pathsieve::render::origin::origin_text(&l.origin);
             t.add_row(vec![
                 "LEAK".into(),
                 l.signature.to_string(),
@@ -244,7 +237,7 @@ fn render(r: &CheckReport) -> String {
                 let _ = writeln!(
                     s,
                     "first leak at {} {}: {} (|F| = {})",
-                    f.measure,
+                    f.measure.label(),
                     f.order,
                     f.signature,
                     fmt_abs(f.abs)
@@ -253,7 +246,8 @@ fn render(r: &CheckReport) -> String {
             None => {
                 let _ = writeln!(
                     s,
-                    "no leak through order {} (agnostic search)",
+                    "no leak through {} {} (the same kind of set, searched above the order)",
+                    r.leak_measure.label(),
                     r.leak_search_to
                 );
             }

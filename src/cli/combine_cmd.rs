@@ -5,7 +5,7 @@
 
 use anyhow::Context;
 use clap::Args;
-use pathsieve::check::{check_cycle, CheckRequest};
+use pathsieve::check::{check, CheckOptions};
 use pathsieve::combine::data_file::{
     output_files, read_step_data, CombineMeta, OutputFormat, SCHEMA_VERSION,
 };
@@ -16,6 +16,7 @@ use pathsieve::export::meta::{sha256_hex, sidecar_path};
 use pathsieve::export::phase_import::read_phase_list_file;
 use pathsieve::render::combine_text::combine_notes;
 use pathsieve::safe_write::write_many_atomic;
+use pathsieve::selection::{Selection, SelectionRequest};
 use std::path::{Path, PathBuf};
 
 /// Arguments of `pathsieve combine`.
@@ -71,7 +72,8 @@ pub fn run(a: CombineArgs) -> anyhow::Result<u8> {
     let exp_bytes = pathsieve::input_text::read_bytes(&a.experiment)?;
     let exp = read_experiment(&a.experiment)?;
     let cycle = read_cycle(&a.cycle, None)?;
-    let report = check_cycle(&exp, &cycle, &CheckRequest::default()).with_context(|| {
+    let sel = Selection::new(&exp, &SelectionRequest::default())?;
+    let report = check(&sel, &cycle, &CheckOptions::default()).with_context(|| {
         format!(
             "checking {} against {}",
             a.cycle.display(),
@@ -110,7 +112,7 @@ pub fn run(a: CombineArgs) -> anyhow::Result<u8> {
             Normalise::KeptAmplitude
         },
     };
-    let combined = combine_cycle(&exp, &cycle, &data, &req)
+    let combined = combine_cycle(&sel, &cycle, &data, &req)
         .with_context(|| format!("combining {}", a.data.display()))?;
     let (mut files, stored_as) =
         output_files(&combined, &a.out, format).map_err(|m| anyhow::anyhow!("--out: {m}"))?;

@@ -7,8 +7,9 @@ use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use pathsieve::cycle::{Cycle, Phase};
 use pathsieve::design::lattice::{Progress, SearchControl};
-use pathsieve::design::{design, DesignReport, DesignRequest, RejectionSource};
+use pathsieve::design::{cycled_fields, design, DesignOptions, DesignReport};
 use pathsieve::experiment_file::read_experiment;
+use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
 use std::path::PathBuf;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -62,18 +63,19 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
             bail!("{} exists; use --force to overwrite", o.display());
         }
     }
-    let req = DesignRequest {
-        order: a.rejection.order,
-        rejection: if a.rejection.from_pathways {
-            RejectionSource::Pathways
-        } else {
-            RejectionSource::Agnostic
+    // Limits before work: the cycled-field count is known before any set is built.
+    cycled_fields(&exp)?;
+    let sel = Selection::new(
+        &exp,
+        &SelectionRequest {
+            grid: a.grid.clone(),
+            ..a.rejection.request()
         },
-        geometry: !a.rejection.no_geometry,
-        grid: a.grid.clone(),
+    )?;
+    let req = DesignOptions {
         max_steps: a.max_steps,
         max_phases_per_field: a.max_phases,
-        ..DesignRequest::default()
+        ..DesignOptions::default()
     };
     let _ = ctrlc::set_handler(|| CANCEL.store(true, Ordering::SeqCst));
     let bar = ProgressBar::with_draw_target(None, ProgressDrawTarget::hidden());
@@ -108,7 +110,7 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
                 }
             });
         }
-        let r = design(&exp, &req, &ctl);
+        let r = design(&sel, &req, &ctl);
         done.store(true, Ordering::SeqCst);
         r
     })?;

@@ -2,16 +2,18 @@
 //! class, the leakage chart of a cycle, and the phase wheels of a cycle. Files are written with
 //! `safe_write` (no overwrite without --force, never half-written).
 
+use super::output::RejectionArgs;
 use super::pathways_cmd::Selector;
 use anyhow::{bail, Context};
 use clap::{Args, Subcommand};
-use pathsieve::check::CheckRequest;
+use pathsieve::check::SnapPolicy;
 use pathsieve::cycle::read_cycle;
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::limits::MAX_LISTED_PATHWAYS;
 use pathsieve::pathways::{for_each_row, Pathway, Scope};
 use pathsieve::render::{diagram_svg, leakage, leakage_svg, wheels_svg};
 use pathsieve::safe_write::write_atomic;
+use pathsieve::selection::Selection;
 use std::path::PathBuf;
 
 /// Arguments of `pathsieve draw`.
@@ -54,9 +56,8 @@ enum Picture {
         experiment: PathBuf,
         /// Cycle table (TOML or CSV).
         cycle: PathBuf,
-        /// Order K of the rejection set (default: the experiment's order).
-        #[arg(long, value_name = "K")]
-        order: Option<u32>,
+        #[command(flatten)]
+        rejection: RejectionArgs,
         /// Output SVG file.
         #[arg(long, value_name = "OUT.svg")]
         out: PathBuf,
@@ -133,23 +134,21 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
         Picture::Leakage {
             experiment,
             cycle,
-            order,
+            rejection,
             out,
             force,
         } => {
             let exp = read_experiment(&experiment)?;
             let c = read_cycle(&cycle, None)?;
-            let req = CheckRequest {
-                order,
-                ..CheckRequest::default()
-            };
-            let chart = leakage::leakage_chart(&exp, &c, &req).with_context(|| {
-                format!(
-                    "checking {} against {}",
-                    cycle.display(),
-                    experiment.display()
-                )
-            })?;
+            let sel = Selection::new(&exp, &rejection.request())?;
+            let chart =
+                leakage::leakage_chart(&sel, &c, &SnapPolicy::default()).with_context(|| {
+                    format!(
+                        "checking {} against {}",
+                        cycle.display(),
+                        experiment.display()
+                    )
+                })?;
             write_atomic(&out, leakage_svg::leakage_svg(&chart).as_bytes(), force)?;
             eprintln!("wrote the leakage chart to {}", out.display());
         }

@@ -4,7 +4,7 @@
 
 use anyhow::{bail, Context};
 use clap::{Args, ValueEnum};
-use pathsieve::check::{bind_cycle, check_cycle, CheckRequest, SnapPolicy};
+use pathsieve::check::{bind_cycle, check, CheckOptions, SnapPolicy};
 use pathsieve::cycle::{read_cycle, CycleOutput};
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::export::mask::{mask_set_csv, mask_set_npy, masks_for_cycle};
@@ -14,8 +14,9 @@ use pathsieve::export::phase_formats::{
 };
 use pathsieve::export::phase_list::{ExportUnit, PhaseList};
 use pathsieve::export::shaper::parse_shaper;
-use pathsieve::export::step_order::drift_order;
+use pathsieve::export::step_order::drift_order_for;
 use pathsieve::safe_write::write_many_atomic;
+use pathsieve::selection::{Selection, SelectionRequest};
 use std::path::{Path, PathBuf};
 
 /// Output format of `pathsieve export`.
@@ -96,7 +97,8 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         .with_context(|| format!("cannot read {}", a.experiment.display()))?;
     let exp = read_experiment(&a.experiment)?;
     let mut cycle = read_cycle(&a.cycle, None)?;
-    let report = check_cycle(&exp, &cycle, &CheckRequest::default()).with_context(|| {
+    let sel = Selection::new(&exp, &SelectionRequest::default())?;
+    let report = check(&sel, &cycle, &CheckOptions::default()).with_context(|| {
         format!(
             "checking {} against {}",
             a.cycle.display(),
@@ -105,7 +107,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
     })?;
     // Use the bound outputs: a table without weight columns gets each signal's derived weights.
     let bound = bind_cycle(
-        &exp,
+        &sel,
         &cycle,
         &SnapPolicy {
             enabled: false,
@@ -131,7 +133,8 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
             .map_or(String::new(), |k| format!(", first leak order {k}"))
     )];
     if a.order == Order::Drift {
-        let d = drift_order(&list.turns_f64(), &list.weights);
+        let backgrounds: Vec<Vec<i64>> = sel.backgrounds().into_iter().map(|b| b.0).collect();
+        let d = drift_order_for(&list.turns_f64(), &list.weights, &backgrounds);
         notes.push(format!(
             "drift-robust order: largest first moment of {} cancelled low-order backgrounds {:.4} -> {:.4} (per unit relative drift per step, relative to N sum|w|)",
             d.backgrounds, d.before, d.after

@@ -3,6 +3,7 @@
 use anyhow::Context;
 use clap::Args;
 use comfy_table::{presets::UTF8_FULL_CONDENSED, ContentArrangement, Table};
+use pathsieve::selection::{RejectionSource, SelectionRequest};
 use std::io::Write;
 use std::path::Path;
 
@@ -57,4 +58,20 @@ pub struct RejectionArgs {
     /// Ignore the beam geometry: also cancel coherent terms that are not phase matched.
     #[arg(long)]
     pub no_geometry: bool,
+}
+
+impl RejectionArgs {
+    /// The selection request these arguments ask for.
+    pub fn request(&self) -> SelectionRequest {
+        SelectionRequest {
+            order: self.order,
+            source: if self.from_pathways {
+                RejectionSource::FromPathways
+            } else {
+                RejectionSource::Agnostic
+            },
+            geometry: self.no_geometry.then_some(false),
+            ..SelectionRequest::default()
+        }
+    }
 }

@@ -55,7 +55,7 @@ pub use order::order_from_export;
 
 use crate::check::{bind_cycle, SnapPolicy};
 use crate::cycle::Cycle;
-use crate::model::Experiment;
+use crate::selection::Selection;
 use crate::signature::Signature;
 use num_complex::Complex64;
 use serde::Serialize;
@@ -298,19 +298,20 @@ pub struct Combined {
 }
 
 /// Combine per-step data into the cycle's outputs (see the module documentation for the
-/// convention). The cycle is bound to the experiment first (field names, kept signatures,
-/// derived weights for outputs without explicit ones); it is not checked for leaks here.
+/// convention). The cycle is bound to the selection's experiment first (field names, kept
+/// signatures, derived weights for outputs without explicit ones); it is not checked for leaks
+/// here ([`crate::check::check`] does that with the same selection).
 ///
 /// # Errors
 /// [`CombineError`] for a cycle that does not fit the experiment, a wrong step count, a bad
 /// step axis or step order.
 pub fn combine_cycle(
-    exp: &Experiment,
+    sel: &Selection,
     cycle: &Cycle,
     data: &StepData,
     req: &CombineRequest,
 ) -> Result<Combined, CombineError> {
-    let bound = bind_cycle(exp, cycle, &SnapPolicy::default())?;
+    let bound = bind_cycle(sel, cycle, &SnapPolicy::default())?;
     let n = bound.phases.len();
     let order = req.order.clone().unwrap_or_else(|| (0..n).collect());
     let phases = bound.phases_f64();

@@ -3,9 +3,11 @@
 //! amplitudes, must combine to exactly the kept amplitudes (to float precision).
 
 use super::*;
-use crate::check::{check_cycle, rejected::rejection_set, CheckRequest, RejectionSource};
+use crate::check::{check, CheckOptions};
 use crate::cycle::{read_cycle, read_cycle_toml};
 use crate::experiment_file::read_experiment;
+use crate::model::Experiment;
+use crate::selection::{Selection, SelectionRequest};
 use std::collections::BTreeMap;
 use std::path::Path;
 
@@ -22,21 +24,14 @@ fn amplitude(seed: &mut u64) -> Complex64 {
 
 /// Every term the cycle's outputs keep or reject, with an amplitude: kept terms order 1,
 /// rejected 1000x; real detection pairs each b with -b at the conjugate amplitude.
-fn simulated_terms(exp: &Experiment, cycle: &Cycle, seed: u64) -> BTreeMap<Vec<i64>, Complex64> {
-    let bound = bind_cycle(exp, cycle, &SnapPolicy::default()).unwrap();
+fn simulated_terms(sel: &Selection, cycle: &Cycle, seed: u64) -> BTreeMap<Vec<i64>, Complex64> {
+    let exp = &sel.experiment;
+    let bound = bind_cycle(sel, cycle, &SnapPolicy::default()).unwrap();
     let mut kept: Vec<Signature> = bound.outputs.iter().flat_map(|o| o.kept.clone()).collect();
     kept.sort();
     let mut rejected = Vec::new();
-    for oi in 0..bound.outputs.len() {
-        let set = rejection_set(
-            exp,
-            &bound,
-            oi,
-            exp.order,
-            &RejectionSource::Agnostic { geometry: None },
-        )
-        .unwrap();
-        rejected.extend(set.into_iter().map(|(b, _)| b));
+    for oi in 0..sel.outputs.len() {
+        rejected.extend(sel.rejection_of_output(oi).into_iter().map(|t| t.signature));
     }
     let mut seed = seed;
     let mut terms: BTreeMap<Vec<i64>, Complex64> = BTreeMap::new();
@@ -72,12 +67,13 @@ fn simulated_terms(exp: &Experiment, cycle: &Cycle, seed: u64) -> BTreeMap<Vec<i
 
 /// `S_m(column) = sum_b A_b * (1 + column) * exp(+i 2 pi b.phi_m)`, steps x columns.
 fn simulate(
-    exp: &Experiment,
+    sel: &Selection,
     cycle: &Cycle,
     terms: &BTreeMap<Vec<i64>, Complex64>,
     cols: usize,
 ) -> StepData {
-    let bound = bind_cycle(exp, cycle, &SnapPolicy::default()).unwrap();
+    let exp = &sel.experiment;
+    let bound = bind_cycle(sel, cycle, &SnapPolicy::default()).unwrap();
     let mut values = Vec::new();
     for row in bound.phases_f64() {
         for c in 0..cols {
@@ -102,12 +98,13 @@ fn simulate(
 
 /// Combine simulated data and compare each output with the sum of its kept amplitudes.
 fn assert_recovers(exp: &Experiment, cycle: &Cycle) {
-    let report = check_cycle(exp, cycle, &CheckRequest::default()).unwrap();
+    let sel = &selection(exp);
+    let report = check(sel, cycle, &CheckOptions::default()).unwrap();
     assert!(report.clean, "the cycle must be clean for this test");
-    let terms = simulated_terms(exp, cycle, 7);
+    let terms = simulated_terms(sel, cycle, 7);
     let total: f64 = terms.values().map(|a| a.norm()).sum();
-    let data = simulate(exp, cycle, &terms, 3);
-    let c = combine_cycle(exp, cycle, &data, &CombineRequest::default()).unwrap();
+    let data = simulate(sel, cycle, &terms, 3);
+    let c = combine_cycle(sel, cycle, &data, &CombineRequest::default()).unwrap();
     assert!(
         terms.values().any(|a| a.norm() > 400.0),
         "no rejected term simulated"
@@ -123,6 +120,10 @@ fn assert_recovers(exp: &Experiment, cycle: &Cycle) {
             );
         }
     }
+}
+
+fn selection(exp: &Experiment) -> Selection {
+    Selection::new(exp, &SelectionRequest::default()).unwrap()
 }
 
 fn scheme(name: &str) -> std::path::PathBuf {
@@ -150,8 +151,9 @@ fn the_2x2_pump_probe_cycle_recovers_the_absorptive_sum_and_scales_out_n() {
     let exp = read_experiment(&scheme("carbonyl-pump-probe.toml")).unwrap();
     let cycle = read_cycle(&scheme("carbonyl-2x2.cycle.toml"), None).unwrap();
     assert_recovers(&exp, &cycle);
-    let data = simulate(&exp, &cycle, &simulated_terms(&exp, &cycle, 3), 1);
-    let c = combine_cycle(&exp, &cycle, &data, &CombineRequest::default()).unwrap();
+    let sel = selection(&exp);
+    let data = simulate(&sel, &cycle, &simulated_terms(&sel, &cycle, 3), 1);
+    let c = combine_cycle(&sel, &cycle, &data, &CombineRequest::default()).unwrap();
     assert_eq!(c.outputs[0].gain[0], [4.0, 0.0]);
     assert_eq!(c.outputs[0].scale, [0.25, 0.0]);
     assert!(c.outputs[0].real && c.outputs[0].unpaired.is_empty());
@@ -163,12 +165,13 @@ fn a_designed_cycle_recovers_every_output() {
     let exp = read_experiment(&scheme("dye-fluorescence-2d.toml")).unwrap();
     let cancel = std::sync::atomic::AtomicBool::new(false);
     let ctl = crate::design::lattice::SearchControl::new(&cancel);
-    let r = crate::design::design(&exp, &crate::design::DesignRequest::default(), &ctl).unwrap();
+    let sel = selection(&exp);
+    let r = crate::design::design(&sel, &crate::design::DesignOptions::default(), &ctl).unwrap();
     let cycle = r.cycle.expect("a design");
     assert_recovers(&exp, &cycle);
     // Real fluorescence data, outputs keeping R without -R: complex, and said so.
-    let data = simulate(&exp, &cycle, &simulated_terms(&exp, &cycle, 5), 1);
-    let c = combine_cycle(&exp, &cycle, &data, &CombineRequest::default()).unwrap();
+    let data = simulate(&sel, &cycle, &simulated_terms(&sel, &cycle, 5), 1);
+    let c = combine_cycle(&sel, &cycle, &data, &CombineRequest::default()).unwrap();
     assert!(c.outputs.iter().all(|o| !o.real && !o.unpaired.is_empty()));
 }
 

@@ -16,7 +16,7 @@ pub mod weighted;
 pub mod weighted_stage;
 pub mod yardsticks;
 
-pub use prepare::{prepare, restrict, Prepared};
+pub use prepare::{cycled_fields, prepare, restrict, Prepared};
 pub use report::{design, DesignKind, DesignReport};
 
 use crate::error::ModelError;
@@ -25,27 +25,9 @@ use crate::signature::Signature;
 use serde::Serialize;
 use thiserror::Error;
 
-/// Where the terms to cancel come from.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
-pub enum RejectionSource {
-    /// The agnostic set through the order (no level scheme needed; the safe default).
-    Agnostic,
-    /// The signatures of every enumerated pathway through the order (tighter).
-    Pathways,
-}
-
-/// What the user asks the designer for.
+/// How hard the designer searches (what it must keep and cancel is the [`crate::selection::Selection`]).
 #[derive(Clone, Debug)]
-pub struct DesignRequest {
-    /// Cancel everything through this order (default: the experiment's).
-    pub order: Option<u32>,
-    /// Agnostic or enumerated rejection set.
-    pub rejection: RejectionSource,
-    /// Apply the beam geometry (drop coherent terms that are not phase matched).
-    pub geometry: bool,
-    /// Phase grid: one value for all fields, or one per experiment field (0 = any phase).
-    pub grid: Option<Vec<u32>>,
+pub struct DesignOptions {
     /// Cap on the number of steps.
     pub max_steps: u64,
     /// Cap on distinct phases per field.
@@ -56,13 +38,9 @@ pub struct DesignRequest {
     pub beyond_max_steps: usize,
 }
 
-impl Default for DesignRequest {
+impl Default for DesignOptions {
     fn default() -> Self {
-        DesignRequest {
-            order: None,
-            rejection: RejectionSource::Agnostic,
-            geometry: true,
-            grid: None,
+        DesignOptions {
             max_steps: 4096,
             max_phases_per_field: None,
             beyond_budget: std::time::Duration::from_secs(2),
@@ -143,9 +121,9 @@ pub enum PlanError {
         "no field has a cycled phase: set `phase = \"cycled\"` on the pulses the shaper controls"
     )]
     NothingCycled,
-    /// Bad grid request.
-    #[error("{0}")]
-    BadGrid(String),
+    /// From building the selection.
+    #[error(transparent)]
+    Selection(#[from] crate::selection::SelectionError),
     /// From the model.
     #[error(transparent)]
     Model(#[from] ModelError),
@@ -155,4 +133,7 @@ pub enum PlanError {
     /// From exact arithmetic.
     #[error(transparent)]
     Exact(#[from] crate::exact::ExactError),
+    /// From the checker verifying the written cycle.
+    #[error("verifying the designed cycle: {0}")]
+    Check(crate::check::CheckError),
 }

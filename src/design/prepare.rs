@@ -1,12 +1,13 @@
-//! Turning an experiment and a design request into a design problem over the cycled fields:
-//! which fields are stepped, which terms must be kept and which cancelled, and which requests
-//! are impossible before any search (terms no phase cycle can separate).
+//! Stage 1, the problem: a [`Selection`] (what to keep and cancel) turned into a lattice
+//! problem over the cycled fields: which fields are stepped, which terms must be kept and which
+//! cancelled, and which requests are impossible before any search (terms no phase cycle can
+//! separate).
 
-use super::{DesignRequest, Impossibility, PlanError, RejectionSource};
-use crate::agnostic::agnostic_set;
+use super::{DesignOptions, Impossibility, PlanError};
 use crate::design::lattice::{LatticeProblem, OutputSpec, MAX_DIMS};
 use crate::model::{Detection, Experiment, PathwayClass, PhaseControl};
-use crate::pathways::{for_each_pathway, resolve_signals, ResolvedSignal, Scope};
+use crate::pathways::ResolvedSignal;
+use crate::selection::Selection;
 use crate::signature::Signature;
 use std::collections::BTreeSet;
 
@@ -25,8 +26,6 @@ pub struct Prepared {
     pub rejected: Vec<Signature>,
     /// Requests that no phase cycle can meet.
     pub impossible: Vec<Impossibility>,
-    /// The rejection set actually used (NMR always uses the coherence pathways).
-    pub source: RejectionSource,
 }
 
 /// Restrict a signature to the given fields.
@@ -34,8 +33,10 @@ pub fn restrict(b: &Signature, fields: &[usize]) -> Vec<i64> {
     fields.iter().map(|&j| b.0[j]).collect()
 }
 
-/// Build the problem.
-pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanError> {
+/// The fields a design steps and the field the global phase holds fixed (when every field
+/// is cycled), refused when there are none or more than the lattice search supports. Cheap:
+/// call it before building a [`Selection`] so the limit answers before any work.
+pub fn cycled_fields(exp: &Experiment) -> Result<(Vec<usize>, Option<usize>), PlanError> {
     // Cycled fields; the global phase (every term has sum b = 0) lets one field stay fixed.
     let mut cycled: Vec<usize> = (0..exp.fields.len())
         .filter(|&j| exp.fields[j].phase == PhaseControl::Cycled)
@@ -59,38 +60,18 @@ pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanEr
         }
         .into());
     }
-    let outputs = resolve_signals(exp)?;
+    Ok((cycled, fixed_by_global_phase))
+}
+
+/// Build the problem.
+pub fn prepare(sel: &Selection, opts: &DesignOptions) -> Result<Prepared, PlanError> {
+    let exp = &sel.experiment;
+    let (cycled, fixed_by_global_phase) = cycled_fields(exp)?;
+    let outputs = sel.outputs.clone();
     if outputs.is_empty() {
         return Err(PlanError::NoSignals);
     }
-    let wanted: Vec<Signature> = outputs.iter().flat_map(|o| o.kept.clone()).collect();
-    let order = req.order.unwrap_or(exp.order);
-    // NMR: the optical agnostic set does not apply (every term carries the receiver).
-    let source = if matches!(exp.detection, Detection::Nmr { .. }) {
-        RejectionSource::Pathways
-    } else {
-        req.rejection
-    };
-    let rejected: Vec<Signature> = match source {
-        RejectionSource::Agnostic => agnostic_set(exp, order, &wanted, req.geometry)?,
-        RejectionSource::Pathways => {
-            let mut set = BTreeSet::new();
-            let scope = if matches!(exp.detection, Detection::Nmr { .. }) {
-                Scope::Signal
-            } else {
-                Scope::Through(order)
-            };
-            for_each_pathway(exp, scope, |p| {
-                if !req.geometry || exp.is_phase_matched(&p.signature) {
-                    set.insert(p.signature.clone());
-                    if exp.detection.is_real() {
-                        set.insert(p.signature.conjugate());
-                    }
-                }
-            })?;
-            set.into_iter().filter(|b| !wanted.contains(b)).collect()
-        }
-    };
+    let rejected = sel.rejected_by_all();
 
     let mut impossible = Vec::new();
     for o in &outputs {
@@ -129,18 +110,9 @@ pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanEr
         }
     }
 
-    let grid = match &req.grid {
+    let grid = match &sel.grid {
         None => vec![0; cycled.len()],
-        Some(g) if g.len() == 1 => vec![g[0]; cycled.len()],
-        Some(g) if g.len() == exp.fields.len() => cycled.iter().map(|&j| g[j]).collect(),
-        Some(g) => {
-            return Err(PlanError::BadGrid(format!(
-                "--grid takes one value for every field or one per field ({} fields: {}); got {}",
-                exp.fields.len(),
-                exp.field_names().join(", "),
-                g.len()
-            )))
-        }
+        Some(g) => cycled.iter().map(|&j| g[j]).collect(),
     };
     let mut rej_c: Vec<Vec<i64>> = rejected.iter().map(|b| restrict(b, &cycled)).collect();
     rej_c.sort();
@@ -160,8 +132,8 @@ pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanEr
         grid,
         outputs: kept_sets,
         rejected: rej_c,
-        max_steps: req.max_steps,
-        max_phases_per_field: req.max_phases_per_field,
+        max_steps: opts.max_steps,
+        max_phases_per_field: opts.max_phases_per_field,
     };
     Ok(Prepared {
         cycled,
@@ -170,7 +142,6 @@ pub fn prepare(exp: &Experiment, req: &DesignRequest) -> Result<Prepared, PlanEr
         outputs,
         rejected,
         impossible,
-        source,
     })
 }
 

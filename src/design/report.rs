@@ -5,11 +5,13 @@
 use super::choice::{pick, score};
 use super::to_cycle::lattice_cycle;
 use super::weighted_stage::{search_below, weighted_cycle, BeyondSummary};
-use super::yardsticks::{first_leak_order, min_cogwheel, CogwheelScan};
-use super::{prepare, DesignRequest, Impossibility, PlanError, RejectionSource};
+use super::yardsticks::{min_cogwheel, CogwheelScan};
+use super::{prepare, DesignOptions, Impossibility, PlanError};
+use crate::check::{check, CheckOptions};
 use crate::cycle::{Cycle, CycleMeta};
 use crate::design::lattice::{search_with_alternatives, Lattice, SearchControl, SearchOutcome};
 use crate::model::Experiment;
+use crate::selection::{RejectionSource, Selection};
 use crate::signature::Signature;
 use serde::Serialize;
 use std::time::Instant;
@@ -89,10 +91,13 @@ pub struct DesignReport {
     pub drift_moment_natural: f64,
     /// The same after reordering.
     pub drift_moment_ordered: f64,
-    /// First order above the requested one at which the design leaks (agnostic set).
+    /// First order at which the written cycle leaks, as the checker finds it on the
+    /// selection's terms (NMR: coherence level).
     pub first_leak_order: Option<u32>,
     /// Orders searched for the first leak.
     pub first_leak_searched_to: u32,
+    /// The checker's verdict on the written cycle: every kept value and rejected term.
+    pub verified: Option<Verification>,
     /// True for NMR detection (first leak counted in coherence level, not order).
     pub detection_nmr: bool,
     /// Noise efficiency `|F(t)| / sqrt(N sum |w|^2)`: 1 for unit-modulus weights.
@@ -116,15 +121,43 @@ pub struct DesignReport {
     pub cycle: Option<Cycle>,
 }
 
+/// What the checker says about the written cycle (stage: verification).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Verification {
+    /// True when every output is clean through the order.
+    pub clean: bool,
+    /// True when every verdict is exact.
+    pub exact: bool,
+    /// Rejected terms checked per output (conjugates included).
+    pub rejected_checked: Vec<usize>,
+    /// Leaking rejected terms per output.
+    pub leak_count: Vec<usize>,
+}
+
+/// The checker's verdict on `cycle` for `sel`.
+fn verify(sel: &Selection, cycle: &Cycle) -> Result<(Verification, Option<u32>), PlanError> {
+    let r = check(sel, cycle, &CheckOptions::default()).map_err(PlanError::Check)?;
+    Ok((
+        Verification {
+            clean: r.clean,
+            exact: r.exact,
+            rejected_checked: r.outputs.iter().map(|o| o.rejected_checked).collect(),
+            leak_count: r.outputs.iter().map(|o| o.leak_count).collect(),
+        },
+        r.first_leak_order,
+    ))
+}
+
 /// Run the designer.
 pub fn design(
-    exp: &Experiment,
-    req: &DesignRequest,
+    sel: &Selection,
+    req: &DesignOptions,
     ctl: &SearchControl,
 ) -> Result<DesignReport, PlanError> {
     let start = Instant::now();
-    let prep = prepare(exp, req)?;
-    let order = req.order.unwrap_or(exp.order);
+    let exp = &sel.experiment;
+    let prep = prepare(sel, req)?;
+    let order = sel.order;
     let name = |j: usize| exp.fields[j].name.clone();
     let outputs: Vec<(String, Signature)> = prep
         .outputs
@@ -141,7 +174,7 @@ pub fn design(
             .collect(),
         global_phase_field: prep.fixed_by_global_phase.map(name),
         order,
-        rejection: prep.source,
+        rejection: sel.source,
         rejected_terms: prep.rejected.len(),
         grid: prep.problem.grid.clone(),
         outputs: outputs.clone(),
@@ -162,7 +195,8 @@ pub fn design(
         drift_moment_natural: 0.0,
         drift_moment_ordered: 0.0,
         first_leak_order: None,
-        first_leak_searched_to: 0,
+        first_leak_searched_to: sel.leak_search.to,
+        verified: None,
         detection_nmr: matches!(exp.detection, crate::model::Detection::Nmr { .. }),
         noise_efficiency: 0.0,
         beyond: None,
@@ -272,10 +306,9 @@ pub fn design(
     let phases = lattice.dual_points();
 
     // Step order against slow drift of the largest backgrounds (b = 0 and pair terms).
-    let backgrounds: Vec<Vec<i64>> = prep
-        .rejected
+    let backgrounds: Vec<Vec<i64>> = sel
+        .backgrounds()
         .iter()
-        .filter(|b| b.weight() <= 2)
         .map(|b| super::restrict(b, &prep.cycled))
         .collect();
     let turns: Vec<Vec<f64>> = phases
@@ -348,27 +381,11 @@ pub fn design(
     )?);
     report.noise_efficiency = 1.0;
 
-    let kept: Vec<Vec<Signature>> = prep.outputs.iter().map(|o| o.kept.clone()).collect();
-    let to = (order + 4).min(crate::limits::MAX_ORDER);
-    report.first_leak_searched_to = to;
-    report.first_leak_order = if matches!(exp.detection, crate::model::Detection::Nmr { .. }) {
-        // NMR: leaks appear at higher coherence levels, not orders; let the checker say.
-        report.cycle.as_ref().and_then(|c| {
-            crate::check::check_cycle(exp, c, &crate::check::CheckRequest::default())
-                .ok()
-                .and_then(|r| r.first_leak_order)
-        })
-    } else {
-        first_leak_order(
-            exp,
-            &prep.cycled,
-            &kept,
-            &lattice,
-            order + 1,
-            to,
-            req.geometry,
-        )
-    };
+    if let Some(cycle) = &report.cycle {
+        let (v, first) = verify(sel, cycle)?;
+        report.verified = Some(v);
+        report.first_leak_order = first;
+    }
     let bound = d.nested_bound.unwrap_or(d.steps * 4).max(d.steps);
     report.cogwheel = Some(min_cogwheel(&prep.problem, bound, 5_000_000));
 
@@ -395,13 +412,9 @@ pub fn design(
                     written: None,
                 };
                 let cycle = weighted_cycle(exp, &prep, &w, meta);
-                let check_req = crate::check::CheckRequest {
-                    order: Some(order),
-                    ..crate::check::CheckRequest::default()
-                };
-                report.first_leak_order = crate::check::check_cycle(exp, &cycle, &check_req)
-                    .ok()
-                    .and_then(|c| c.first_leak_order);
+                let (v, first) = verify(sel, &cycle)?;
+                report.verified = Some(v);
+                report.first_leak_order = first;
                 report.lattice_steps = Some(d.steps);
                 report.steps = Some(w.n as u64);
                 report.kind = Some(DesignKind::Weighted { steps: w.n });
@@ -495,15 +508,15 @@ fn summary_text(r: &DesignReport) -> String {
         Some(c) => format!(" No cogwheel cycle with at most {} exists.", steps_text(c.excluded_below.saturating_sub(1))),
         None => String::new(),
     };
-    let nmr =
-        r.rejection == RejectionSource::Pathways && r.first_leak_searched_to > 0 && r.detection_nmr;
+    let nmr = r.detection_nmr;
     let leak = match r.first_leak_order {
         Some(k) if nmr => format!(" It first leaks when the spin system allows coherence level |p| = {k} (enumerated pathways)."),
-        Some(k) => format!(" It first leaks at order {k} (agnostic set)."),
+        Some(k) => format!(" It first leaks at order {k} ({} set, as checked on the written cycle).", source_word(r.rejection)),
         None if nmr => " It stays clean for every coherence level checked.".to_string(),
         None => format!(
-            " It stays clean through order {} (agnostic set, the highest order checked).",
-            r.first_leak_searched_to
+            " It stays clean through order {} ({} set, the highest order checked).",
+            r.first_leak_searched_to,
+            source_word(r.rejection)
         ),
     };
     let proof = if let (Some(DesignKind::Weighted { steps }), Some(b)) = (&r.kind, &r.beyond) {
@@ -532,9 +545,16 @@ fn summary_text(r: &DesignReport) -> String {
             .collect::<Vec<_>>()
             .join(", "),
         r.rejected_terms,
-        match r.rejection { RejectionSource::Agnostic => "agnostic", RejectionSource::Pathways => "enumerated" },
+        source_word(r.rejection),
         r.order
     )
+}
+
+fn source_word(s: RejectionSource) -> &'static str {
+    match s {
+        RejectionSource::Agnostic => "agnostic",
+        RejectionSource::FromPathways => "enumerated",
+    }
 }
 
 /// `1 step`, `27 steps`.

@@ -1,11 +1,8 @@
 //! Yardsticks for a design: the smallest cogwheel cycle (cyclic lattice designs, Levitt, Madhu
-//! & Hughes, J. Magn. Reson. 155, 300 (2002)) found by a pruned exhaustive scan, and the first
-//! order above the requested one at which a lattice design starts to leak.
+//! & Hughes, J. Magn. Reson. 155, 300 (2002)) found by a pruned exhaustive scan. (The first
+//! leak order is the checker's, on the written cycle.)
 
-use crate::agnostic::agnostic_set;
-use crate::design::lattice::{Lattice, LatticeProblem};
-use crate::model::Experiment;
-use crate::signature::Signature;
+use crate::design::lattice::LatticeProblem;
 use num_integer::Integer;
 use serde::Serialize;
 
@@ -133,34 +130,4 @@ fn cog_dfs(
     }
     nu[j] = 0;
     Some(false)
-}
-
-/// The lowest order `K` in `from..=to` at which some agnostic term (other than the kept ones)
-/// falls in `t + L` for an output, i.e. leaks. `None` if clean through `to` (or too large).
-pub fn first_leak_order(
-    exp: &Experiment,
-    cycled: &[usize],
-    kept: &[Vec<Signature>],
-    lattice: &Lattice,
-    from: u32,
-    to: u32,
-    geometry: bool,
-) -> Option<u32> {
-    let wanted: Vec<Signature> = kept.iter().flatten().cloned().collect();
-    for k in from..=to {
-        let Ok(set) = agnostic_set(exp, k, &wanted, geometry) else {
-            return None;
-        };
-        for ks in kept {
-            let t: Vec<i64> = cycled.iter().map(|&j| ks[0].0[j]).collect();
-            let leaks = set.iter().any(|b| {
-                let d: Vec<i64> = cycled.iter().zip(&t).map(|(&j, tj)| b.0[j] - tj).collect();
-                lattice.contains(&d)
-            });
-            if leaks {
-                return Some(k);
-            }
-        }
-    }
-    None
 }

@@ -1,11 +1,11 @@
 //! The data of the leakage chart: for every output of a checked cycle, |F(b)| of each term of
-//! its rejection set (the same set the exact checker uses), its order sum |b|, whether F is
+//! its rejection set (the selection's, as the exact checker uses it), its order, whether F is
 //! exactly zero (cyclotomic arithmetic) or only numerically, and the kept terms. Rendering is
 //! [`super::leakage_svg`]'s job.
 
-use crate::check::{bind_cycle, rejected, CheckError, CheckRequest, Evaluator, Origin};
+use crate::check::{bind_cycle, CheckError, Evaluator, SnapPolicy};
 use crate::cycle::Cycle;
-use crate::model::Experiment;
+use crate::selection::{LeakMeasure, Origin, Selection};
 use crate::signature::Signature;
 
 /// What a plotted term is.
@@ -24,7 +24,7 @@ pub enum TermKind {
 pub struct TermPoint {
     /// The signature over the experiment's fields.
     pub signature: Signature,
-    /// `sum |b|`.
+    /// The term's order (the selection's: interactions, or the NMR coherence level).
     pub order: i64,
     /// |F(b)|.
     pub abs: f64,
@@ -56,37 +56,46 @@ pub struct LeakageChart {
     pub steps: usize,
     /// Order K of the rejection set.
     pub order: u32,
+    /// What the orders count.
+    pub measure: LeakMeasure,
     /// One series per output.
     pub series: Vec<LeakageSeries>,
 }
 
-/// Evaluate every rejected and wanted term of every output (the checker's request `req`
-/// decides the order and the rejection set).
+/// Evaluate every rejected and wanted term of every output of `cycle` against the
+/// selection `sel` (the same sets the checker uses).
 ///
 /// # Errors
-/// [`CheckError`] as from [`crate::check::check_cycle`].
+/// [`CheckError`] as from [`crate::check::check`].
 pub fn leakage_chart(
-    exp: &Experiment,
+    sel: &Selection,
     cycle: &Cycle,
-    req: &CheckRequest,
+    snap: &SnapPolicy,
 ) -> Result<LeakageChart, CheckError> {
-    let k = req.order.unwrap_or(exp.order);
-    let bound = bind_cycle(exp, cycle, &req.snap)?;
+    let bound = bind_cycle(sel, cycle, snap)?;
     let mut series = Vec::new();
     for (oi, out) in bound.outputs.iter().enumerate() {
         let ev = Evaluator::new(&bound, out)?;
-        let set = rejected::rejection_set(exp, &bound, oi, k, &req.source)?;
+        let others: Vec<(&str, &[Signature])> = bound
+            .outputs
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| *j != oi)
+            .map(|(_, o)| (o.name.as_str(), o.kept.as_slice()))
+            .collect();
+        let set = sel.rejection_for(&out.kept, &others);
         let mut terms = Vec::with_capacity(set.len() + out.kept.len());
         for t in &out.kept {
-            terms.push(point(&ev, t, TermKind::Wanted)?);
+            let order = sel.experiment.term_order(t);
+            terms.push(point(&ev, t, order, TermKind::Wanted)?);
         }
-        for (b, origin) in &set {
-            let kind = if *origin == Origin::Conjugate {
+        for t in &set {
+            let kind = if t.origin == Origin::Conjugate {
                 TermKind::Conjugate
             } else {
                 TermKind::Rejected
             };
-            terms.push(point(&ev, b, kind)?);
+            terms.push(point(&ev, &t.signature, i64::from(t.order), kind)?);
         }
         terms.sort_by(|a, b| {
             (a.kind != TermKind::Wanted)
@@ -101,18 +110,24 @@ pub fn leakage_chart(
         });
     }
     Ok(LeakageChart {
-        title: exp.title.clone(),
+        title: sel.experiment.title.clone(),
         steps: cycle.len(),
-        order: k,
+        order: sel.order,
+        measure: sel.leak_search.measure,
         series,
     })
 }
 
-fn point(ev: &Evaluator, b: &Signature, kind: TermKind) -> Result<TermPoint, CheckError> {
+fn point(
+    ev: &Evaluator,
+    b: &Signature,
+    order: i64,
+    kind: TermKind,
+) -> Result<TermPoint, CheckError> {
     let zero = ev.is_zero(&b.0)?;
     Ok(TermPoint {
         signature: b.clone(),
-        order: b.weight(),
+        order,
         abs: if zero && ev.is_exact() {
             0.0
         } else {

@@ -1,11 +1,12 @@
 //! The leakage chart as SVG: one panel per output, |F(b)| of every term on a log axis, terms
-//! grouped by order sum |b| (wanted terms in their own group on the left), leaks as filled red
-//! dots, conjugates of wanted terms in purple, and terms with F = 0 in a band below the axis —
+//! grouped by the selection's term order (NMR: coherence level; wanted terms in their own
+//! group on the left), leaks as filled red dots, conjugates of wanted terms in purple, and terms with F = 0 in a band below the axis —
 //! hollow grey squares for exact zeros, hollow orange triangles for zeros only within the
 //! numeric bound.
 
 use super::leakage::{LeakageChart, LeakageSeries, TermKind, TermPoint};
 use super::svg::Svg;
+use crate::selection::LeakMeasure;
 use std::collections::BTreeMap;
 
 const LEFT: f64 = 78.0;
@@ -24,7 +25,7 @@ struct Group<'a> {
     terms: Vec<&'a TermPoint>,
 }
 
-fn groups(s: &LeakageSeries) -> Vec<Group<'_>> {
+fn groups(s: &LeakageSeries, measure: LeakMeasure) -> Vec<Group<'_>> {
     let wanted: Vec<&TermPoint> = s
         .terms
         .iter()
@@ -40,7 +41,10 @@ fn groups(s: &LeakageSeries) -> Vec<Group<'_>> {
     }];
     for (k, terms) in by_order {
         g.push(Group {
-            label: format!("Σ|b| = {k}"),
+            label: match measure {
+                LeakMeasure::Order => format!("order {k}"),
+                LeakMeasure::CoherenceLevel => format!("|p| = {k}"),
+            },
             terms,
         });
     }
@@ -53,7 +57,11 @@ fn group_width(n: usize) -> f64 {
 
 /// Draw the chart.
 pub fn leakage_svg(chart: &LeakageChart) -> String {
-    let all: Vec<Vec<Group>> = chart.series.iter().map(groups).collect();
+    let all: Vec<Vec<Group>> = chart
+        .series
+        .iter()
+        .map(|s| groups(s, chart.measure))
+        .collect();
     let plot_w = all
         .iter()
         .map(|gs| gs.iter().map(|g| group_width(g.terms.len())).sum::<f64>())

@@ -6,6 +6,7 @@ pub mod diagram_svg;
 pub mod diagram_text;
 pub mod leakage;
 pub mod leakage_svg;
+pub mod origin;
 pub mod svg;
 pub mod wheels_svg;
 
