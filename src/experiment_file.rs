@@ -15,13 +15,14 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use toml::Spanned;
 
+mod overlap;
+
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawExperiment {
     title: Option<String>,
     order: Option<Spanned<i64>>,
-    #[serde(default)]
-    overlap: bool,
+    overlap: Option<Spanned<toml::Value>>,
     #[serde(default)]
     swap_rnr_labels: bool,
     detection: Spanned<RawDetection>,
@@ -256,13 +257,14 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
         }
     };
 
+    let overlap = overlap::build_overlap(ctx, raw.overlap, &fields, &detection)?;
     let mut exp = Experiment {
         title: raw.title.unwrap_or_else(|| "untitled experiment".into()),
         fields,
         levels,
         detection,
         order,
-        overlap: raw.overlap,
+        overlap,
         swap_rnr_labels: raw.swap_rnr_labels,
         wanted: Vec::new(),
     };

@@ -116,3 +116,20 @@ fn the_listing_and_drawing_commands_refuse_an_oversize_enumeration_at_once() {
     }
     assert!(!svg.exists(), "no file written");
 }
+
+#[test]
+fn the_design_command_answers_with_the_cycled_field_limit_first() {
+    // Ten cycled fields (nine after the global phase) through order 11: the agnostic set would
+    // hold 3 685 123 terms; the command must name the cycled-field limit and its fix instead.
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("ten.toml");
+    std::fs::write(&f, ten_fields(9)).unwrap();
+    let started = std::time::Instant::now();
+    let (code, out, err) = common::run_cli(&["design", f.to_str().unwrap(), "--order", "11"]);
+    assert_eq!(code, 2, "{out}\n{err}");
+    assert!(
+        err.contains("cycled fields") && err.contains("phase = \"fixed\""),
+        "{err}"
+    );
+    assert!(started.elapsed().as_secs() < 5, "refused before work");
+}

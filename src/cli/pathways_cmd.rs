@@ -236,6 +236,11 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
             } else {
                 class
             };
+            let class = if p.time_ordered {
+                class
+            } else {
+                format!("{class} *")
+            };
             t.add_row(vec![
                 (i + 1).to_string(),
                 render::sequence_label(&exp, p),
@@ -253,6 +258,12 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
             ]);
         }
         out.push_str(&format!("{t}\n"));
+        if rows.iter().any(|p| !p.time_ordered) {
+            out.push_str(&format!(
+                "* interactions out of pulse order, possible only while pulses overlap ({}); class by the elements between interactions\n",
+                pathsieve::caveats::overlap_label(&exp)
+            ));
+        }
         if a.diagrams {
             for (i, p) in rows.iter().enumerate() {
                 out.push_str(&format!(
@@ -284,8 +295,27 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
             ));
         }
     }
+    if let Some(note) = pathsieve::caveats::reordered_note(&exp, &resolved) {
+        out.push_str(&format!("note: {note}\n"));
+    }
     print(&out)?;
     Ok(0)
+}
+
+/// Pathways per signature, with the conjugate partners and out-of-order pathways among them.
+fn count_cell(e: &pathways::SignatureSummary) -> String {
+    let mut parts = Vec::new();
+    if e.conjugates > 0 {
+        parts.push(format!("{} c.c.", e.conjugates));
+    }
+    if e.reordered > 0 {
+        parts.push(format!("{} *", e.reordered));
+    }
+    if parts.is_empty() {
+        e.count.to_string()
+    } else {
+        format!("{} ({})", e.count, parts.join(", "))
+    }
 }
 
 fn summary_table(s: &pathways::Summary) -> String {
@@ -306,11 +336,7 @@ fn summary_table(s: &pathways::Summary) -> String {
         t.add_row(vec![
             e.signature.to_string(),
             e.direction.clone(),
-            if e.conjugates > 0 {
-                format!("{} ({} c.c.)", e.count, e.conjugates)
-            } else {
-                e.count.to_string()
-            },
+            count_cell(e),
             classes.join(", "),
             if e.phase_matched {
                 "yes".into()

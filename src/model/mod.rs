@@ -3,8 +3,10 @@
 //! and validated there; everything downstream takes it as correct.
 
 mod levels;
+mod overlap;
 
 pub use levels::{LevelScheme, State, Transition};
+pub use overlap::Overlap;
 
 use crate::signature::Signature;
 use serde::Serialize;
@@ -190,8 +192,8 @@ pub struct Experiment {
     pub detection: Detection,
     /// Perturbative order of the wanted signal (number of field interactions).
     pub order: u32,
-    /// Whether pulses overlap in time, so interactions need not follow pulse order.
-    pub overlap: bool,
+    /// Which pulses overlap in time, so that their interactions need not follow pulse order.
+    pub overlap: Overlap,
     /// Use the other labelling found in part of the literature: swap the R and NR names.
     pub swap_rnr_labels: bool,
     /// The wanted signals (outputs).

@@ -6,14 +6,14 @@ use super::{Element, Interaction};
 use crate::model::{Detection, LevelScheme, PathwayClass, PopulationClass};
 
 /// Fill `ends` with the index (into the element list) of the element held in each delay:
-/// after the last interaction of each pulse block, where the next interaction belongs to
-/// another field (time-ordered pulses), or after every interaction (overlapping pulses).
-pub(super) fn delay_ends(interactions: &[Interaction], overlap: bool, ends: &mut Vec<usize>) {
+/// after each run of interactions with one pulse, where the next interaction belongs to
+/// another field (for time-ordered pulses, after each pulse's last interaction; with
+/// overlapping pulses a pulse may have several runs).
+pub(super) fn delay_ends(interactions: &[Interaction], ends: &mut Vec<usize>) {
     ends.clear();
     for i in 0..interactions.len() {
-        let block_ends = overlap
-            || i + 1 == interactions.len()
-            || interactions[i + 1].field != interactions[i].field;
+        let block_ends =
+            i + 1 == interactions.len() || interactions[i + 1].field != interactions[i].field;
         if block_ends {
             ends.push(i);
         }

@@ -25,7 +25,13 @@ struct Walker<'a, F: FnMut(&Pathway)> {
     exp: &'a Experiment,
     levels: &'a LevelScheme,
     pulses: Vec<usize>,
+    /// The time block of each pulse slot (overlapping pulses share one).
+    blocks: Vec<usize>,
+    /// For each pulse slot, the first slot of its time block.
+    block_start: Vec<usize>,
     remaining: Vec<u32>,
+    /// Interactions so far that act before an earlier pulse of their group.
+    reordered: u32,
     scope: Scope,
     max_depth: u32,
     path: Pathway,
@@ -66,11 +72,23 @@ fn walk<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visit: F) {
         Scope::Through(k) => k,
     };
     let n_fields = exp.fields.len();
+    let blocks = exp.overlap.blocks(&pulses);
+    let block_start = (0..pulses.len())
+        .map(|slot| {
+            blocks
+                .iter()
+                .position(|&b| b == blocks[slot])
+                .unwrap_or(slot)
+        })
+        .collect();
     let mut walker = Walker {
         exp,
         levels,
         pulses,
+        blocks,
+        block_start,
         remaining,
+        reordered: 0,
         scope,
         max_depth,
         path: Pathway {
@@ -88,6 +106,7 @@ fn walk<F: FnMut(&Pathway)>(exp: &Experiment, scope: Scope, visit: F) {
             weight: 1.0,
             coherence_orders: Vec::new(),
             conjugate: false,
+            time_ordered: true,
         },
         visit,
         ket: levels.ground,
@@ -146,6 +165,8 @@ impl<'a, F: FnMut(&Pathway)> Walker<'a, F> {
                 continue;
             }
             let field = self.pulses[slot];
+            let back = u32::from(last_pulse_slot.is_some_and(|l| slot < l));
+            self.reordered += back;
             if matches!(self.scope, Scope::Signal) {
                 self.remaining[slot] -= 1;
             }
@@ -154,19 +175,22 @@ impl<'a, F: FnMut(&Pathway)> Walker<'a, F> {
             if matches!(self.scope, Scope::Signal) {
                 self.remaining[slot] += 1;
             }
+            self.reordered -= back;
         }
     }
 
+    /// Time order by blocks: a pulse may act once every pulse of an earlier block is done
+    /// (signal scope), or when its block is not earlier than the last interaction's (every
+    /// pathway through the order); pulses of one block (overlapping) act in any order.
     fn slot_allowed(&self, slot: usize, last: Option<usize>) -> bool {
         match self.scope {
             Scope::Signal => {
-                if self.remaining[slot] == 0 {
-                    return false;
-                }
-                // Time order: every earlier pulse must be finished first.
-                self.exp.overlap || self.remaining[..slot].iter().all(|&r| r == 0)
+                self.remaining[slot] > 0
+                    && self.remaining[..self.block_start[slot]]
+                        .iter()
+                        .all(|&r| r == 0)
             }
-            Scope::Through(_) => self.exp.overlap || last.is_none_or(|l| slot >= l),
+            Scope::Through(_) => last.is_none_or(|l| self.blocks[slot] >= self.blocks[l]),
         }
     }
 
@@ -271,7 +295,8 @@ impl<'a, F: FnMut(&Pathway)> Walker<'a, F> {
             bra: self.bra,
         };
         self.path.weight = f64::from(self.path.sign) * self.amplitude * detected_factor;
-        delay_ends(&self.path.interactions, exp.overlap, &mut self.ends);
+        self.path.time_ordered = self.reordered == 0;
+        delay_ends(&self.path.interactions, &mut self.ends);
         self.path.delays.clear();
         let elements = &self.path.elements;
         self.path

@@ -9,7 +9,7 @@ mod size;
 mod summary;
 
 pub use enumerate::{count_pathways, for_each_pathway, for_each_row, Scope};
-pub use resolve::{coherence_signature, resolve_signals, Contamination, ResolvedSignal};
+pub use resolve::{coherence_signature, resolve_signals, Contamination, Reordered, ResolvedSignal};
 pub use size::{check_size, pathway_bound, MAX_VISITED_PATHWAYS};
 pub use summary::{needs_conjugate_rows, summarize, SignatureSummary, Summary};
 
@@ -79,8 +79,8 @@ pub struct Pathway {
     pub interactions: Vec<Interaction>,
     /// The element after each interaction.
     pub elements: Vec<Element>,
-    /// The element in each delay between pulses (after each pulse's last interaction), in time
-    /// order; with overlapping pulses, after each interaction.
+    /// The element in each delay, in time order: after each run of interactions with one
+    /// pulse (for time-ordered pulses, after each pulse's last interaction).
     pub delays: Vec<Element>,
     /// Phase signature over all fields, the reference included as the detection mode says.
     pub signature: Signature,
@@ -99,6 +99,9 @@ pub struct Pathway {
     pub coherence_orders: Vec<i32>,
     /// True for the complex-conjugate partner row of a real-detection term.
     pub conjugate: bool,
+    /// True when the interactions follow the pulses' time order; false for an ordering that
+    /// only overlapping pulses allow (a later pulse of a group acting before an earlier one).
+    pub time_ordered: bool,
 }
 
 impl Pathway {
@@ -153,6 +156,7 @@ impl Pathway {
             weight: self.conjugate_weight(),
             coherence_orders: self.coherence_orders.iter().map(|p| -p).collect(),
             conjugate: !self.conjugate,
+            time_ordered: self.time_ordered,
         }
     }
 }

@@ -31,6 +31,7 @@ pub(super) fn for_each_coherence_path<F: FnMut(&Pathway)>(exp: &Experiment, mut 
         weight: 1.0,
         coherence_orders: vec![0; pulses.len() + 1],
         conjugate: false,
+        time_ordered: true,
     };
     if let Some(r) = exp.reference_index() {
         path.signature.0[r] = i64::from(detected);

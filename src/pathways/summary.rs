@@ -19,6 +19,8 @@ pub struct SignatureSummary {
     pub count: u64,
     /// Of those, how many are complex-conjugate partner rows.
     pub conjugates: u64,
+    /// Of those, how many have interactions out of pulse order (overlapping pulses).
+    pub reordered: u64,
     /// Counts per class.
     pub classes: BTreeMap<PathwayClass, u64>,
     /// Sum of the pathways' relative weights (sign, dipoles, yields).
@@ -48,25 +50,38 @@ pub fn summarize(
     conjugates: bool,
     wanted: &[(String, Vec<Signature>)],
 ) -> Result<Summary, ModelError> {
-    let mut map: BTreeMap<Signature, (u64, u64, BTreeMap<PathwayClass, u64>, f64)> =
-        BTreeMap::new();
+    let mut map: BTreeMap<Signature, SignatureSummary> = BTreeMap::new();
     let mut total = 0u64;
     let add_conjugates = conjugates && needs_conjugate_rows(exp);
     let mut add = |p: &Pathway, conj: bool| {
         total += 1;
+        let signature = if conj {
+            p.signature.conjugate()
+        } else {
+            p.signature.clone()
+        };
         let entry = map
-            .entry(if conj {
-                p.signature.conjugate()
-            } else {
-                p.signature.clone()
-            })
-            .or_insert_with(|| (0, 0, BTreeMap::new(), 0.0));
-        entry.0 += 1;
-        if conj {
-            entry.1 += 1;
-        }
-        *entry.2.entry(p.class).or_insert(0) += 1;
-        entry.3 += if conj { p.conjugate_weight() } else { p.weight };
+            .entry(signature)
+            .or_insert_with_key(|signature| SignatureSummary {
+                signature: signature.clone(),
+                direction: exp.signal_direction(signature),
+                count: 0,
+                conjugates: 0,
+                reordered: 0,
+                classes: BTreeMap::new(),
+                weight_sum: 0.0,
+                phase_matched: exp.is_phase_matched(signature),
+                wanted_by: wanted
+                    .iter()
+                    .filter(|(_, sigs)| sigs.contains(signature))
+                    .map(|(n, _)| n.clone())
+                    .collect(),
+            });
+        entry.count += 1;
+        entry.conjugates += u64::from(conj);
+        entry.reordered += u64::from(!p.time_ordered);
+        *entry.classes.entry(p.class).or_insert(0) += 1;
+        entry.weight_sum += if conj { p.conjugate_weight() } else { p.weight };
     };
     for_each_pathway(exp, scope, |p| {
         add(p, false);
@@ -74,25 +89,7 @@ pub fn summarize(
             add(p, true);
         }
     })?;
-    let mut signatures: Vec<SignatureSummary> = map
-        .into_iter()
-        .map(
-            |(signature, (count, conj, classes, weight_sum))| SignatureSummary {
-                direction: exp.signal_direction(&signature),
-                phase_matched: exp.is_phase_matched(&signature),
-                wanted_by: wanted
-                    .iter()
-                    .filter(|(_, sigs)| sigs.contains(&signature))
-                    .map(|(n, _)| n.clone())
-                    .collect(),
-                signature,
-                count,
-                conjugates: conj,
-                classes,
-                weight_sum,
-            },
-        )
-        .collect();
+    let mut signatures: Vec<SignatureSummary> = map.into_values().collect();
     signatures.sort_by(|a, b| {
         a.signature
             .weight()
