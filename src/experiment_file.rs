@@ -31,6 +31,9 @@ struct RawExperiment {
     levels: Option<Spanned<RawLevels>>,
     #[serde(default, rename = "signal")]
     signals: Vec<Spanned<RawSignal>>,
+    /// Read by `crate::simulate::parse_dynamics`; accepted here so the key is not unknown.
+    #[serde(default, rename = "dynamics")]
+    _dynamics: Option<toml::Value>,
 }
 
 #[derive(Deserialize)]

@@ -47,3 +47,4 @@ pub mod render;
 pub mod safe_write;
 pub mod selection;
 pub mod signature;
+pub mod simulate;

@@ -240,21 +240,22 @@ fn pathway_json_objects_have_unique_keys_with_labels_beside_indices() {
     assert!(first["final_label"].as_str().unwrap().starts_with('|'));
 }
 
+/// `pathways` on the ladder example with `args` and `--json`: the listed pathway objects.
+fn ladder_rows(args: &[&str]) -> Vec<serde_json::Value> {
+    let p = common::scheme("ladder-heterodyne.toml");
+    let mut all = vec!["pathways", p.to_str().unwrap(), "--json"];
+    all.extend_from_slice(args);
+    let (code, out, err) = run(&all);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    v["pathways"].as_array().unwrap().clone()
+}
+
 #[test]
 fn select_takes_a_signature_with_a_leading_minus() {
     // Hamm & Zanni, Concepts and Methods of 2D IR Spectroscopy (2011), ch. 4 (memory): the
     // ladder's rephasing signature (-1,+1,+1) carries three pathways (GSB, SE, ESA).
-    let p = common::scheme("ladder-heterodyne.toml");
-    let (code, out, err) = run(&[
-        "pathways",
-        p.to_str().unwrap(),
-        "--select",
-        "-1,1,1,-1",
-        "--json",
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
-    let rows = v["pathways"].as_array().unwrap();
+    let rows = ladder_rows(&["--select", "-1,1,1,-1"]);
     assert_eq!(rows.len(), 3);
     for r in rows {
         assert_eq!(r["signature"], serde_json::json!([-1, 1, 1, -1]));
@@ -265,19 +266,7 @@ fn select_takes_a_signature_with_a_leading_minus() {
 fn select_with_conjugates_filters_on_the_listed_partner_signature() {
     // The conjugate of rephasing (-1,+1,+1,-1) is (+1,-1,-1,+1): asking for it with
     // --conjugates lists the three R partners, and nothing whose own signature differs.
-    let p = common::scheme("ladder-heterodyne.toml");
-    let file = p.to_str().unwrap();
-    let (code, out, err) = run(&[
-        "pathways",
-        file,
-        "--select",
-        "1,-1,-1,1",
-        "--conjugates",
-        "--json",
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
-    let rows = v["pathways"].as_array().unwrap();
+    let rows = ladder_rows(&["--select", "1,-1,-1,1", "--conjugates"]);
     assert_eq!(rows.len(), 3);
     for r in rows {
         assert_eq!(r["signature"], serde_json::json!([1, -1, -1, 1]));
@@ -285,10 +274,7 @@ fn select_with_conjugates_filters_on_the_listed_partner_signature() {
         assert_eq!(r["class"], "rephasing");
     }
     // Without --conjugates no pathway has that signature.
-    let (code, out, err) = run(&["pathways", file, "--select", "1,-1,-1,1", "--json"]);
-    assert_eq!(code, 0, "{err}");
-    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
-    assert_eq!(v["pathways"].as_array().unwrap().len(), 0);
+    assert!(ladder_rows(&["--select", "1,-1,-1,1"]).is_empty());
 }
 
 #[test]

@@ -88,11 +88,13 @@ fn draw_one(svg: &mut Svg, exp: &Experiment, p: &Pathway, x0: f64, y0: f64, h: f
             Direction::Up => "#1f5fa8",
             Direction::Down => "#b5451b",
         };
-        // Up: the arrow points at the line (absorption on that side); down: it points away.
+        // Forward in time (upward), pointing at the line for absorption and away from it for
+        // emission: the heading the text diagrams use too.
         let far = x_line + outward * 38.0;
-        match inter.direction {
-            Direction::Up => svg.arrow(far, y + 14.0, x_line, y, colour, false),
-            Direction::Down => svg.arrow(x_line, y, far, y - 14.0, colour, false),
+        if super::arrow_heading(inter) as f64 == -outward {
+            svg.arrow(far, y + 14.0, x_line, y, colour, false);
+        } else {
+            svg.arrow(x_line, y, far, y - 14.0, colour, false);
         }
         let sign = if inter.phase_sign() > 0 { "+" } else { "-" };
         let name = &exp.fields[inter.field].name;

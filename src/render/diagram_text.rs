@@ -1,9 +1,10 @@
 //! A compact terminal form of a double-sided diagram: one row per interaction, bottom (first)
-//! to top (last), with the element after each step between the two lines.
+//! to top (last), with the element after each step between the two lines. Arrows point as in
+//! the SVG diagrams ([`super::arrow_heading`]): forward in time, at the line for absorption.
 
-use super::element_label;
+use super::{arrow_heading, element_label};
 use crate::model::Experiment;
-use crate::pathways::{Direction, Pathway, Side};
+use crate::pathways::{Pathway, Side};
 use std::fmt::Write;
 
 /// Render one pathway as lines of text, latest interaction on top.
@@ -29,9 +30,10 @@ pub fn diagram_text(exp: &Experiment, p: &Pathway) -> String {
         )
     ));
     for (i, inter) in p.interactions.iter().enumerate() {
-        let arrow = match inter.direction {
-            Direction::Up => "↗",
-            Direction::Down => "↘",
+        let arrow = if arrow_heading(inter) > 0 {
+            "↗"
+        } else {
+            "↖"
         };
         let name = &exp.fields[inter.field].name;
         let sign = if inter.phase_sign() > 0 { "+" } else { "-" };
@@ -47,4 +49,95 @@ pub fn diagram_text(exp: &Experiment, p: &Pathway) -> String {
         let _ = writeln!(out, "  {r}");
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::experiment_file::parse_experiment;
+    use crate::pathways::{for_each_pathway, Direction, Interaction, Scope};
+
+    #[test]
+    fn arrows_point_at_the_line_for_absorption_and_away_for_emission() {
+        // Double-sided diagram convention (Mukamel, Principles of Nonlinear Optical
+        // Spectroscopy, 1995, ch. 6; Hamm & Zanni, 2011, ch. 4 (memory)): time runs upward,
+        // the ket line is on the left, absorption arrows point at their line.
+        let at = |side, direction| Interaction {
+            field: 0,
+            side,
+            direction,
+            from: 0,
+            to: 0,
+        };
+        assert_eq!(arrow_heading(&at(Side::Ket, Direction::Up)), 1);
+        assert_eq!(arrow_heading(&at(Side::Ket, Direction::Down)), -1);
+        assert_eq!(arrow_heading(&at(Side::Bra, Direction::Up)), -1);
+        assert_eq!(arrow_heading(&at(Side::Bra, Direction::Down)), 1);
+    }
+
+    #[test]
+    fn text_and_svg_arrows_point_the_same_way() {
+        // The rephasing ESA pathway of the g-e-f ladder: bra up (pulse 1), ket up (2), ket up
+        // (3). Text: one row per interaction, latest on top, the glyph beside its line; SVG:
+        // one arrow per interaction, its head (the polygon's first point) at the end.
+        let text = "order = 3\n[detection]\nmode = \"emission\"\n[[field]]\nname = \"1\"\n[[field]]\nname = \"2\"\n[[field]]\nname = \"3\"\n[[field]]\nname = \"LO\"\nkind = \"lo\"\n[levels]\nstates = [{ name = \"g\", manifold = 0 }, { name = \"e\", manifold = 1 }, { name = \"f\", manifold = 2 }]\n";
+        let e = parse_experiment(text, "t.toml".as_ref()).unwrap();
+        let mut all = Vec::new();
+        for_each_pathway(&e, Scope::Signal, |p| all.push(p.clone())).unwrap();
+        for p in all.iter().flat_map(|p| [p.clone(), p.conjugated()]) {
+            let glyphs: Vec<i64> = diagram_text(&e, &p)
+                .lines()
+                .rev()
+                .filter_map(|l| {
+                    if l.contains('↗') {
+                        Some(1)
+                    } else if l.contains('↖') {
+                        Some(-1)
+                    } else {
+                        None
+                    }
+                })
+                .collect();
+            let svg = crate::render::diagram_svg::diagrams_svg(&e, std::slice::from_ref(&p), "t");
+            // Each arrow is its shaft (a line) followed by its head (a polygon).
+            let mut shaft = "";
+            let mut arrows = Vec::new();
+            for l in svg.lines() {
+                if l.starts_with("<line") {
+                    shaft = l;
+                } else if l.starts_with("<polygon") {
+                    arrows.push((l, shaft));
+                }
+            }
+            let heads: Vec<i64> = arrows
+                .into_iter()
+                .take(p.interactions.len())
+                .map(|(poly, line)| {
+                    let num = |l: &str, key: &str| -> f64 {
+                        let rest = &l[l.find(key).unwrap() + key.len()..];
+                        rest[..rest.find('"').unwrap()].parse().unwrap()
+                    };
+                    let tip: f64 = poly
+                        .split('"')
+                        .nth(1)
+                        .unwrap()
+                        .split(',')
+                        .next()
+                        .unwrap()
+                        .parse()
+                        .unwrap();
+                    let (x1, x2) = (num(line, "x1=\""), num(line, "x2=\""));
+                    assert!(
+                        num(line, "y2=\"") < num(line, "y1=\""),
+                        "forward in time: {line}"
+                    );
+                    assert!((tip - x2).abs() < 0.06, "head at the end: {poly}");
+                    (x2 - x1).signum() as i64
+                })
+                .collect();
+            let expected: Vec<i64> = p.interactions.iter().map(arrow_heading).collect();
+            assert_eq!(glyphs, expected, "text {:?}", p.interactions);
+            assert_eq!(heads, expected, "svg {:?}", p.interactions);
+        }
+    }
 }

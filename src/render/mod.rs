@@ -13,6 +13,17 @@ pub mod wheels_svg;
 use crate::model::Experiment;
 use crate::pathways::{Direction, Element, Interaction, Pathway, Side};
 
+/// The horizontal way an interaction's arrow points in a double-sided diagram (time upward,
+/// ket line left, bra line right; every arrow goes forward in time): absorption points at its
+/// line, emission away from it. `1` is rightward, `-1` leftward; it equals the interaction's
+/// phase sign (a `+k` arrow points right). The SVG and the text diagrams both draw from it.
+pub fn arrow_heading(i: &Interaction) -> i64 {
+    match (i.side, i.direction) {
+        (Side::Ket, Direction::Up) | (Side::Bra, Direction::Down) => 1,
+        (Side::Ket, Direction::Down) | (Side::Bra, Direction::Up) => -1,
+    }
+}
+
 /// `|ket><bra|` with state names.
 pub fn element_label(exp: &Experiment, e: &Element) -> String {
     match &exp.levels {
