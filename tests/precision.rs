@@ -44,6 +44,19 @@ fn published(cycle: &str, experiment: &str) -> (Cycle, pathsieve::model::Experim
     (c, exp)
 }
 
+/// The directive and header lines of a table of `c` in `unit`.
+fn header(c: &Cycle, unit: &str) -> String {
+    let mut s = format!("# unit = {unit}\nstep");
+    for f in &c.fields {
+        s.push_str(&format!(",{f}"));
+    }
+    for o in &c.outputs {
+        s.push_str(&format!(",w:{}", o.name));
+    }
+    s.push('\n');
+    s
+}
+
 /// The cycle as a CSV table with `d` decimals in `unit`, weights (times `scale`) with `d`
 /// decimals as `re+imi`; `corrupt` adds `shift` turns to one (step, field) cell.
 fn as_table(
@@ -53,14 +66,7 @@ fn as_table(
     scale: f64,
     corrupt: Option<(usize, usize, f64)>,
 ) -> String {
-    let mut s = format!("# unit = {}\nstep", unit.name());
-    for f in &c.fields {
-        s.push_str(&format!(",{f}"));
-    }
-    for o in &c.outputs {
-        s.push_str(&format!(",w:{}", o.name));
-    }
-    s.push('\n');
+    let mut s = header(c, unit.name());
     for (m, row) in c.steps.iter().enumerate() {
         s.push_str(&(m + 1).to_string());
         for (j, p) in row.iter().enumerate() {
@@ -177,14 +183,7 @@ fn six_decimal_unscaled_weights_snap_to_roots_of_unity_and_check_exactly() {
 #[test]
 fn scientific_notation_as_numpy_savetxt_writes_it_is_read_and_clean() {
     let (c, exp) = published(CASES[0].0, CASES[0].1);
-    let mut s = String::from("# unit = radians\nstep");
-    for f in &c.fields {
-        s.push_str(&format!(",{f}"));
-    }
-    for o in &c.outputs {
-        s.push_str(&format!(",w:{}", o.name));
-    }
-    s.push('\n');
+    let mut s = header(&c, "radians");
     for (m, row) in c.steps.iter().enumerate() {
         s.push_str(&(m + 1).to_string());
         for p in row {

@@ -55,6 +55,19 @@ pub struct BoundOutput {
     pub contamination: Vec<Contamination>,
 }
 
+impl BoundOutput {
+    /// All weights as exact cyclotomic numbers, if every one is exact.
+    pub fn exact_weights(&self) -> Option<Vec<crate::exact::Cyclo>> {
+        self.weights
+            .iter()
+            .map(|w| match w {
+                Weight::Exact(c) => Some(c.clone()),
+                Weight::Approx(_) => None,
+            })
+            .collect()
+    }
+}
+
 /// A cycle in the experiment's field order.
 #[derive(Clone, Debug, PartialEq)]
 pub struct BoundCycle {

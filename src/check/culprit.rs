@@ -134,14 +134,7 @@ fn table(bound: &BoundCycle, out: &BoundOutput) -> Table {
                 .collect()
         })
         .collect();
-    let weights = out
-        .weights
-        .iter()
-        .map(|w| match w {
-            Weight::Exact(c) => Some(c.clone()),
-            Weight::Approx(_) => None,
-        })
-        .collect();
+    let weights = out.exact_weights();
     Table {
         rows,
         all_exact,

@@ -7,7 +7,7 @@ use super::bind::{BoundCycle, BoundOutput};
 use super::{inseparable, tolerance};
 use super::{CheckError, CheckOptions, ConjugateTerm, FirstLeak, KeptTerm, Leak, OutputReport};
 use crate::cycle::{Weight, WeightSource};
-use crate::exact::{Cyclo, ExactFilter};
+use crate::exact::ExactFilter;
 use crate::model::Experiment;
 use crate::selection::{Origin, Term};
 use num_complex::Complex64;
@@ -119,14 +119,7 @@ impl Evaluator {
     /// Build the evaluator of `out` on `bound`: exact when every phase and weight is exact
     /// (as written or snapped), numeric with the precision bound otherwise.
     pub fn new(bound: &BoundCycle, out: &BoundOutput) -> Result<Evaluator, CheckError> {
-        let exact_w: Option<Vec<Cyclo>> = out
-            .weights
-            .iter()
-            .map(|w| match w {
-                Weight::Exact(c) => Some(c.clone()),
-                Weight::Approx(_) => None,
-            })
-            .collect();
+        let exact_w = out.exact_weights();
         if let (Some(p), Some(w)) = (bound.exact_phases(), exact_w.as_ref()) {
             if let Ok(f) = ExactFilter::new(&p, w) {
                 return Ok(Evaluator::Exact(f));

@@ -25,6 +25,9 @@ use crate::signature::Signature;
 use serde::Serialize;
 use thiserror::Error;
 
+/// Default work limit of the weighted search in a design run: step sets through the origin.
+pub const DEFAULT_BEYOND_STEP_SETS: u64 = 250_000;
+
 /// How hard the designer searches (what it must keep and cancel is the [`crate::selection::Selection`]).
 #[derive(Clone, Debug)]
 pub struct DesignOptions {
@@ -32,8 +35,9 @@ pub struct DesignOptions {
     pub max_steps: u64,
     /// Cap on distinct phases per field.
     pub max_phases_per_field: Option<u32>,
-    /// Time budget for the search beyond lattice designs (0 = skip it).
-    pub beyond_budget: std::time::Duration,
+    /// Work limit of the search beyond lattice designs: step sets through the origin over
+    /// all levels (0 = skip it). Deterministic: no clock is involved.
+    pub beyond_step_sets: u64,
     /// Largest step count the beyond-lattice search tries.
     pub beyond_max_steps: usize,
 }
@@ -43,8 +47,8 @@ impl Default for DesignOptions {
         DesignOptions {
             max_steps: 4096,
             max_phases_per_field: None,
-            beyond_budget: std::time::Duration::from_secs(2),
-            beyond_max_steps: 4,
+            beyond_step_sets: DEFAULT_BEYOND_STEP_SETS,
+            beyond_max_steps: weighted::MAX_BEYOND_STEPS,
         }
     }
 }

@@ -395,7 +395,7 @@ pub fn design(
             &prep,
             &lattice,
             d.steps,
-            req.beyond_budget,
+            req.beyond_step_sets,
             req.beyond_max_steps,
             ctl.cancel,
         ) {
@@ -524,10 +524,15 @@ fn summary_text(r: &DesignReport) -> String {
             " Minimality: every lattice design needs at least {} steps (proven by the lattice search), and every weighted step set with fewer than {steps} steps on the grid {:?} fails ({}).",
             r.lattice_steps.unwrap_or(0),
             b.grid,
-            if b.exact_certificate { "exhaustive search, exact certificate" } else { "exhaustive search, partly numerical certificate" }
+            "exhaustive search, exact"
         )
+    } else if let (true, Some(b)) = (
+        r.proven_minimal,
+        r.beyond.as_ref().filter(|b| b.minimal_on_grid),
+    ) {
+        format!(" Minimality is proven over all step sets on the grid {:?} with any weights: every lattice design with fewer steps fails (lattice search) and so does every weighted step set with fewer steps on that grid (exhaustive search, exact).", b.grid)
     } else if r.proven_minimal {
-        " Minimality is proven among lattice designs (nested and cogwheel cycles included): every lattice design with fewer steps was tested and fails; weighted non-lattice step sets are a separate class.".to_string()
+        " Minimality is proven among lattice designs (nested and cogwheel cycles included): every lattice design with fewer steps was tested and fails; weighted non-lattice step sets are a separate class, searched only as far as the note below says.".to_string()
     } else {
         format!(" The search was interrupted: this design is NOT proven minimal; no lattice design has fewer than {} steps.", r.excluded_below)
     };

@@ -1,9 +1,10 @@
 //! Smallest phase cycles **beyond lattice designs**: exhaustive search over all step sets of
-//! `N` grid points with free complex weights, for `N = 1, 2, ..`, with exact certificates.
-//! This module owns the search driver, its problem and outcome types and its limits; the
-//! exact pieces live in `ring` (root-of-unity determinants), [`galois`] (automorphisms and
-//! exact inverses), the float triage in `numeric` and the per-step-set decision in
-//! `subset`.
+//! `N` grid points with free complex weights, level by level `N = 1, 2, ..`, with exact
+//! verdicts. The work is bounded by a step count and a number of step sets, never by a
+//! clock, so the same problem always gets the same answer. This module owns the driver, its
+//! problem and outcome types and its limits; [`modp`] computes exact ranks through prime
+//! fields, `decide` settles one step set, `sweep` walks one level over both cores, `weights`
+//! builds the exact weights and [`galois`] the exact inverses.
 //!
 //! # The question for one step set
 //! Signatures are restricted to the cycled fields. Output `o` keeps its reference signature
@@ -13,68 +14,60 @@
 //! `A_o[d][m] = exp(2 pi i d . phi_m) = zeta_L^(L d . phi_m)`, `L = lcm(M_j)`. Weights exist iff
 //! some `v` in the kernel of `A_o` has `sum v != 0`, i.e. iff the all-ones row is not in the
 //! row space of `A_o` (`rank [A_o; 1] > rank A_o`). A step set is a design iff this holds for
-//! every output (one step table, one weight vector per output).
+//! every output (one step table, one weight vector per output). Among the designs of the
+//! smallest `N` the search returns the first (in enumeration order) of the best noise
+//! efficiency, with the weights that maximise it (`weights`): non-group step sets, unit-modulus
+//! and unequal weights are all in the class searched.
 //!
 //! # Translation symmetry (why only step sets containing the origin are searched)
 //! Translating every step by one grid vector `psi` multiplies row `d` of `A_o` by the nonzero
 //! constant `exp(2 pi i d . psi)`: `A_o' = D A_o` with `D` diagonal and invertible. So `A_o'`
 //! and `A_o` have the same kernel, and the same `v` works with `w_m' = v_m exp(-2 pi i t_o .
-//! phi_m')`. The grid is a group, so every step set translates (by minus one of its points) to
-//! a step set on the grid that contains the origin and is a design iff the original is.
-//! Enumerating the `C(G - 1, N - 1)` sets that contain grid point 0 (`G = prod M_j`) therefore
-//! decides every `N`-point step set. Order: lexicographic in the grid point index (mixed
-//! radix, field 0 fastest), so the first design found is deterministic.
+//! phi_m')` and the same noise efficiency. The grid is a group, so every step set translates
+//! (by minus one of its points) to a step set on the grid that contains the origin and is a
+//! design iff the original is. Enumerating the `C(G - 1, N - 1)` sets that contain grid point
+//! 0 (`G = prod M_j`) therefore decides every `N`-point step set. Order: lexicographic in the
+//! grid point index (mixed radix, field 0 fastest).
 //!
 //! # Exactness
-//! Floats only choose which exact computation to run; every verdict that is returned rests on
-//! exact arithmetic, except the subsets counted in
-//! [`BeyondOutcome::numerically_decided`]:
-//! * a returned design has exact cyclotomic weights (Cramer's rule with root-of-unity
-//!   determinants, the denominator inverted through the field norm) and is verified with
-//!   [`crate::exact::ExactFilter`] on every rejected and every other kept signature
-//!   (`F = 0`) and on its own (`F = 1`);
-//! * an infeasible step set is certified by an exact left multiplier `y` with `y^T A_o = 1^T`
-//!   (see `subset`): for full column rank this is a nonzero `N x N` minor, for deficient rank a
-//!   Cramer solution checked on the remaining columns. Both are exact tests of divisibility by
-//!   the cyclotomic polynomial `Phi_L`;
-//! * if the exact check fails (the float rank was wrong), an infeasible verdict is kept as
-//!   *numerical* and `exact_certificate` becomes false; a numerical design candidate that
-//!   fails exact verification is *undecided* and stops the exhaustive claim at the level
-//!   below it.
+//! Every verdict is exact: ranks are exact ranks over `Q(zeta_L)` computed through prime
+//! fields (module [`modp`]), a returned design has exact cyclotomic weights and is verified
+//! with [`crate::exact::ExactFilter`] on every rejected and every other kept signature
+//! (`F = 0`) and on its own (`F = 1`). Floats only rank equal-length designs by noise
+//! efficiency.
 
+mod decide;
 pub mod galois;
-pub(crate) mod numeric;
-pub(crate) mod ring;
-mod subset;
+pub(crate) mod modp;
+mod sweep;
 #[cfg(test)]
 mod tests;
+mod weights;
 
-use std::sync::atomic::{AtomicBool, Ordering};
-use std::time::{Duration, Instant};
+use std::sync::atomic::AtomicBool;
 
-use itertools::Itertools;
 use num_complex::Complex64;
 use num_rational::Ratio;
-use rayon::prelude::*;
 
 use crate::exact::{Cyclo, ExactError, ExactFilter, Turns};
-use subset::{decide, exact_weights, Ctx, Verdict};
+use decide::Ctx;
+use modp::Primes;
+use sweep::{sweep_level, Columns};
 
-/// Largest number of steps searched (`max_steps`): the Leibniz determinants have `N!` terms.
-pub const MAX_BEYOND_STEPS: usize = 8;
+/// Largest number of steps searched (`max_steps`).
+pub const MAX_BEYOND_STEPS: usize = 16;
 /// Largest number of grid steps per turn for one field.
 pub const MAX_GRID_STEPS: u32 = 24;
 /// Largest common order `L = lcm(M_j)`; exact inverses cost `phi(L)` field products.
 pub const MAX_GRID_ORDER: u64 = 840;
 /// Largest number of grid points `G = prod M_j`.
 pub const MAX_GRID_POINTS: u64 = 1_000_000;
-/// Largest number of step sets `C(G - 1, N - 1)` at any level `N <= max_steps`.
-pub const MAX_SUBSETS_PER_LEVEL: u64 = 20_000_000;
+/// Largest work limit `max_step_sets` (step sets through the origin over all levels).
+pub const MAX_STEP_SETS: u64 = 100_000_000_000;
 /// Largest number of signatures (rejected plus kept).
 pub const MAX_SIGNATURES: usize = 100_000;
-
-/// Step sets handed to the worker threads at once (between time and cancel checks).
-const CHUNK: usize = 2048;
+/// Largest `G x (differences of all outputs)`: the size of the compressed-column table.
+pub const MAX_TABLE: u64 = 200_000_000;
 
 /// A search request.
 #[derive(Clone, Debug)]
@@ -89,8 +82,9 @@ pub struct BeyondProblem {
     pub rejected: Vec<Vec<i64>>,
     /// Largest `N` to search, `1..=MAX_BEYOND_STEPS`.
     pub max_steps: usize,
-    /// Wall-clock budget; the search stops between chunks when it is spent.
-    pub time_budget: Duration,
+    /// Work limit: a level is searched only if its step sets (through the origin), added to
+    /// those of the levels before, stay within this number.
+    pub max_step_sets: u64,
 }
 
 /// A verified design.
@@ -102,27 +96,42 @@ pub struct BeyondDesign {
     pub weights: Vec<Vec<Cyclo>>,
     /// Number of steps.
     pub n: usize,
+    /// Smallest noise efficiency `|F(t)| / sqrt(N sum |w|^2)` over the outputs.
+    pub noise_efficiency: f64,
+}
+
+/// Why the search stopped before `max_steps` without a design.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum BeyondStop {
+    /// Every level through `max_steps` was searched.
+    Completed,
+    /// Level `steps` has `step_sets` step sets, more than the work limit left.
+    WorkLimit {
+        /// The level not searched.
+        steps: usize,
+        /// Its step sets through the origin.
+        step_sets: u64,
+    },
+    /// The cancel flag was raised.
+    Cancelled,
 }
 
 /// What the search found and how far its optimality claim reaches.
 #[derive(Clone, Debug)]
 pub struct BeyondOutcome {
-    /// The first design found at the smallest `N` searched (exactly verified), if any.
+    /// The design of the best noise efficiency at the smallest `N` that has one.
     pub design: Option<BeyondDesign>,
-    /// Every step set with at most this many points was decided and none is a design.
+    /// Every step set with at most this many points was decided exactly and none is a design.
     pub exhaustive_up_to: usize,
-    /// True if every step set counted in `exhaustive_up_to` was proven infeasible exactly.
-    pub exact_certificate: bool,
     /// Step sets examined (containing the origin; see the module doc).
     pub subsets_tested: u64,
-    /// Step sets judged infeasible by the float rank only (exact certificate failed).
-    pub numerically_decided: u64,
-    /// Numerical design candidates whose exact weights failed verification.
-    pub undecided: u64,
-    /// The time budget ran out.
-    pub stopped_by_time: bool,
-    /// The cancel flag was raised.
-    pub cancelled: bool,
+    /// Step sets that needed the exact multi-prime decision (the rest were settled by the
+    /// compressed-column rank).
+    pub exact_decisions: u64,
+    /// Step sets through the origin of the design's length that carry a design.
+    pub designs_at_minimum: u64,
+    /// Why the search ended.
+    pub stop: BeyondStop,
 }
 
 /// Errors of the search; each names the bad value and the fix.
@@ -194,76 +203,48 @@ pub enum BeyondError {
 }
 
 /// Search step sets of `1..=max_steps` points for the smallest design (module doc). Checks
-/// every limit before any work; stops early, with the partial claim, on `cancel` or when the
-/// time budget is spent.
+/// every limit before any work; a level that does not fit the work limit is not started, and
+/// the cancel flag stops the search with the claim of the levels completed.
 pub fn search_beyond(p: &BeyondProblem, cancel: &AtomicBool) -> Result<BeyondOutcome, BeyondError> {
-    let start = Instant::now();
     let ctx = prepare(p)?;
     let g: usize = ctx.grid.iter().map(|&m| m as usize).product();
     let mut out = BeyondOutcome {
         design: None,
         exhaustive_up_to: 0,
-        exact_certificate: true,
         subsets_tested: 0,
-        numerically_decided: 0,
-        undecided: 0,
-        stopped_by_time: false,
-        cancelled: false,
+        exact_decisions: 0,
+        designs_at_minimum: 0,
+        stop: BeyondStop::Completed,
     };
-    let mut exhaustive_ok = true;
+    let mut columns: Option<Columns> = None;
+    let mut budget = p.max_step_sets;
+    let table: u64 = ctx.outputs.iter().map(|(_, r)| r.len() as u64).sum::<u64>() * g as u64;
     for n in 1..=p.max_steps.min(g) {
-        let mut level_numerical = 0u64;
-        let mut level_undecided = 0u64;
-        let mut combos = (1..g).combinations(n - 1);
-        loop {
-            if cancel.load(Ordering::Relaxed) {
-                out.cancelled = true;
-                return Ok(out);
-            }
-            if start.elapsed() > p.time_budget {
-                out.stopped_by_time = true;
-                return Ok(out);
-            }
-            let chunk: Vec<Vec<usize>> = combos
-                .by_ref()
-                .take(CHUNK)
-                .map(|c| std::iter::once(0).chain(c).collect())
-                .collect();
-            if chunk.is_empty() {
-                break;
-            }
-            let verdicts: Vec<Result<Verdict, BeyondError>> =
-                chunk.par_iter().map(|s| decide(&ctx, s)).collect();
-            for (s, v) in chunk.iter().zip(verdicts) {
-                out.subsets_tested += 1;
-                match v? {
-                    Verdict::Certified => {}
-                    Verdict::Numerical => {
-                        out.numerically_decided += 1;
-                        level_numerical += 1;
-                    }
-                    Verdict::Candidate(choices) => match build_design(&ctx, p, s, &choices)? {
-                        Some(d) => {
-                            out.design = Some(d);
-                            return Ok(out);
-                        }
-                        None => {
-                            out.undecided += 1;
-                            level_undecided += 1;
-                        }
-                    },
-                }
-            }
+        let count = binomial(g as u64 - 1, n as u64 - 1);
+        if count > budget {
+            out.stop = BeyondStop::WorkLimit {
+                steps: n,
+                step_sets: count,
+            };
+            return Ok(out);
         }
-        if level_undecided > 0 {
-            exhaustive_ok = false;
+        budget -= count;
+        if n >= 3 && columns.is_none() && table <= MAX_TABLE {
+            columns = Some(Columns::new(&ctx, g, p.max_steps + 3));
         }
-        if exhaustive_ok {
-            out.exhaustive_up_to = n;
-            if level_numerical > 0 {
-                out.exact_certificate = false;
-            }
+        let level = sweep_level(&ctx, columns.as_ref(), g, n, cancel);
+        out.subsets_tested += level.tested;
+        out.exact_decisions += level.exact_decisions;
+        if level.cancelled {
+            out.stop = BeyondStop::Cancelled;
+            return Ok(out);
         }
+        if let Some((set, rows, _)) = level.best {
+            out.designs_at_minimum = level.feasible;
+            out.design = Some(build_design(&ctx, p, &set, &rows)?);
+            return Ok(out);
+        }
+        out.exhaustive_up_to = n;
     }
     Ok(out)
 }
@@ -306,7 +287,7 @@ fn prepare(p: &BeyondProblem) -> Result<Ctx, BeyondError> {
         }
     }
     if p.max_steps == 0 || p.max_steps > MAX_BEYOND_STEPS {
-        return Err(range("max_steps", p.max_steps as u64, "1..=8"));
+        return Err(range("max_steps", p.max_steps as u64, "1..=16"));
     }
     if p.outputs.is_empty() {
         return Err(range("number of outputs", 0, "at least 1"));
@@ -347,21 +328,12 @@ fn prepare(p: &BeyondProblem) -> Result<Ctx, BeyondError> {
             fix: "use a coarser grid or fewer cycled fields".into(),
         });
     }
-    let worst = (1..=p.max_steps.min(g as usize))
-        .map(|n| binomial(g - 1, n as u64 - 1))
-        .max()
-        .unwrap_or(0);
-    if worst > MAX_SUBSETS_PER_LEVEL {
-        let fits = (1..=p.max_steps)
-            .take_while(|&n| binomial(g - 1, n as u64 - 1) <= MAX_SUBSETS_PER_LEVEL)
-            .last()
-            .unwrap_or(1);
-        return Err(BeyondError::TooLarge {
-            what: "step sets at one level",
-            value: worst,
-            limit: MAX_SUBSETS_PER_LEVEL,
-            fix: format!("lower max_steps to {fits} or use a coarser grid"),
-        });
+    if p.max_step_sets > MAX_STEP_SETS {
+        return Err(range(
+            "max_step_sets",
+            p.max_step_sets,
+            "0..=100000000000 step sets",
+        ));
     }
     let reduce = |d: &[i64]| -> Vec<i64> {
         d.iter()
@@ -393,11 +365,13 @@ fn prepare(p: &BeyondProblem) -> Result<Ctx, BeyondError> {
     let roots = (0..l)
         .map(|k| Complex64::from_polar(1.0, std::f64::consts::TAU * k as f64 / l as f64))
         .collect();
+    let rank_bound = p.max_steps.min(g as usize);
     Ok(Ctx {
         l: l as u32,
         grid: p.grid.clone(),
         outputs,
         roots,
+        primes: Primes::new(l as u32, Primes::for_rank(l as u32, rank_bound)),
     })
 }
 
@@ -417,13 +391,13 @@ fn binomial(n: u64, k: u64) -> u64 {
     r as u64
 }
 
-/// Exact weights for every output and exact verification; `None` if either fails.
+/// Exact weights for every output and exact verification of the chosen step set.
 fn build_design(
     ctx: &Ctx,
     p: &BeyondProblem,
     subset: &[usize],
-    choices: &[(Vec<usize>, Vec<usize>, usize)],
-) -> Result<Option<BeyondDesign>, BeyondError> {
+    rows: &[Vec<usize>],
+) -> Result<BeyondDesign, BeyondError> {
     let phases: Vec<Vec<Turns>> = subset
         .iter()
         .map(|&pt| {
@@ -434,32 +408,32 @@ fn build_design(
                 .collect()
         })
         .collect();
-    let mut weights = Vec::with_capacity(choices.len());
-    for (o, choice) in choices.iter().enumerate() {
-        let Some(w) = exact_weights(ctx, o, subset, choice)? else {
-            return Ok(None);
-        };
-        // Exact verification on the original signatures; a failure of the exact layer
-        // (e.g. weights too large for its accumulator) counts as unverified.
-        let Ok(filter) = ExactFilter::new(&phases, &w) else {
-            return Ok(None);
-        };
+    let failed = BeyondError::Internal {
+        what: "exact weights of a feasible step set failed verification",
+    };
+    let mut weights = Vec::with_capacity(rows.len());
+    let mut efficiency = f64::INFINITY;
+    for (o, spanning) in rows.iter().enumerate() {
+        let w = weights::exact_weights(ctx, o, subset, spanning)?;
+        let filter = ExactFilter::new(&phases, &w)?;
         let t = &p.outputs[o].1;
-        let one = Cyclo::one(1)?;
-        if filter.eval(t).map(|f| f != one).unwrap_or(true) {
-            return Ok(None);
+        if filter.eval(t)? != Cyclo::one(1)? {
+            return Err(failed);
         }
         let others = p.outputs.iter().enumerate().filter(|(k, _)| *k != o);
         for b in p.rejected.iter().chain(others.map(|(_, (_, t2))| t2)) {
-            if !filter.is_zero(b).unwrap_or(false) {
-                return Ok(None);
+            if !filter.is_zero(b)? {
+                return Err(failed);
             }
         }
+        let sum_sq: f64 = w.iter().map(|c| c.to_complex().norm_sqr()).sum();
+        efficiency = efficiency.min(1.0 / (subset.len() as f64 * sum_sq).sqrt());
         weights.push(w);
     }
-    Ok(Some(BeyondDesign {
+    Ok(BeyondDesign {
         n: subset.len(),
         phases,
         weights,
-    }))
+        noise_efficiency: efficiency,
+    })
 }
