@@ -32,6 +32,7 @@
 pub mod agnostic;
 pub mod caveats;
 pub mod check;
+pub mod combine;
 pub mod cycle;
 pub mod design;
 pub mod error;

@@ -2,6 +2,7 @@
 
 mod agnostic_cmd;
 mod check_cmd;
+mod combine_cmd;
 mod design_cmd;
 mod draw_cmd;
 mod export_cmd;
@@ -31,6 +32,8 @@ enum Command {
     Check(check_cmd::CheckArgs),
     /// Write a cycle as phase lists (CSV, JSON, NPY) or pulse-shaper masks, with metadata.
     Export(export_cmd::ExportArgs),
+    /// Combine measured per-step data with a cycle's weights: one array per output.
+    Combine(combine_cmd::CombineArgs),
     /// Draw pictures (SVG): double-sided diagrams, a leakage chart, phase wheels.
     Draw(draw_cmd::DrawArgs),
 }
@@ -43,6 +46,7 @@ pub fn run(cli: Cli) -> anyhow::Result<u8> {
         Command::Design(a) => design_cmd::run(a),
         Command::Check(a) => check_cmd::run(a),
         Command::Export(a) => export_cmd::run(a),
+        Command::Combine(a) => combine_cmd::run(a),
         Command::Draw(a) => draw_cmd::run(a),
     }
 }

@@ -7,6 +7,7 @@
 pub mod mask;
 pub mod meta;
 pub mod npy;
+pub mod npz;
 pub mod phase_formats;
 pub mod phase_import;
 pub mod phase_list;

@@ -106,6 +106,18 @@ fn csv_meta(text: &str) -> (ExportMeta, usize) {
                     .map(|s| s.trim().parse::<u64>().ok())
                     .collect::<Option<Vec<_>>>()
             }
+            "steps" => m.steps = v.parse().unwrap_or_default(),
+            "step_order" => m.step_order = v,
+            "source_steps" => {
+                m.source_steps = v
+                    .split_whitespace()
+                    .map(|s| s.parse::<usize>().ok())
+                    .collect::<Option<Vec<_>>>()
+                    .unwrap_or_default()
+            }
+            "outputs" => m.outputs = v.split(", ").map(str::to_string).collect(),
+            "experiment_sha256" => m.experiment_sha256 = Some(v),
+            "cycle" => m.cycle = Some(v),
             _ => {}
         }
     }
@@ -247,6 +259,49 @@ pub fn read_phase_list_json(text: &str, path: &Path) -> Result<Cycle, InputError
     let mut c = cycle_of(&meta, Vec::new(), outputs, path)?;
     c.steps = steps;
     Ok(c)
+}
+
+/// Read an exported phase list from disk, whatever its format (by extension: `.csv`/`.tsv`/
+/// `.txt` with its `#` metadata lines, `.json`, or `.npy` with its `NAME.meta.json` sidecar),
+/// with its metadata (step order, source steps).
+///
+/// # Errors
+/// [`InputError`] naming the file for unreadable or malformed input.
+pub fn read_phase_list_file(path: &Path) -> Result<(Cycle, ExportMeta), InputError> {
+    let ext = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .unwrap_or("")
+        .to_ascii_lowercase();
+    let bad = |m: String| InputError::new(path, None, None, m);
+    match ext.as_str() {
+        "csv" | "tsv" | "txt" => {
+            let text = crate::input_text::read_text(path)?;
+            let cycle = read_phase_list_csv(&text, None, path)?;
+            Ok((cycle, csv_meta(&text).0))
+        }
+        "json" => {
+            let text = crate::input_text::read_text(path)?;
+            let cycle = read_phase_list_json(&text, path)?;
+            let v: serde_json::Value =
+                serde_json::from_str(&text).map_err(|e| bad(format!("not JSON: {e}")))?;
+            let meta: ExportMeta = serde_json::from_value(v["meta"].clone())
+                .map_err(|e| bad(format!("bad `meta` object: {e}")))?;
+            Ok((cycle, meta))
+        }
+        "npy" => {
+            let side = super::meta::sidecar_path(path);
+            let meta_text = crate::input_text::read_text(&side)?;
+            let bytes = crate::input_text::read_bytes(path)?;
+            let cycle = read_phase_list_npy(&bytes, &meta_text, None, path)?;
+            let meta: ExportMeta = serde_json::from_str(&meta_text)
+                .map_err(|e| bad(format!("bad sidecar metadata: {e}")))?;
+            Ok((cycle, meta))
+        }
+        other => Err(bad(format!(
+            "unknown phase-list extension `.{other}`; give the .csv, .json or .npy file `pathsieve export` wrote"
+        ))),
+    }
 }
 
 /// Re-import NPY phases with their sidecar metadata, and optionally NPY weights (complex128,

@@ -1,6 +1,7 @@
 //! Renderers that turn library results into text or SVG bytes. No rendering here decides
 //! anything: each takes a finished result struct.
 
+pub mod combine_text;
 pub mod design_summary;
 pub mod diagram_svg;
 pub mod diagram_text;
