@@ -1,11 +1,16 @@
 //! Renderers that turn library results into text or SVG bytes. No rendering here decides
 //! anything: each takes a finished result struct.
 
+pub mod contour;
 pub mod diagram_svg;
 pub mod diagram_text;
+pub mod fonts;
 pub mod leakage;
 pub mod leakage_svg;
 pub mod origin;
+#[cfg(feature = "png")]
+pub mod png;
+pub mod spectrum_svg;
 pub mod svg;
 pub mod wheels_svg;
 
