@@ -285,6 +285,14 @@ pub fn check_output(
         && lost.is_empty()
         && conjugates.iter().all(|c| c.cancelled)
         && out.contamination.is_empty();
+    let suspects = if clean || !out.contamination.is_empty() {
+        Vec::new()
+    } else {
+        super::culprit::find(bound, &exp.field_names(), out, set, ev)
+    };
+    let mut suspect_steps: Vec<usize> = suspects.iter().flat_map(|s| s.steps.clone()).collect();
+    suspect_steps.sort_unstable();
+    suspect_steps.dedup();
     Ok(OutputReport {
         name: out.name.clone(),
         weights: match &out.source {
@@ -314,6 +322,8 @@ pub fn check_output(
         first_leak: first,
         inseparable: insep,
         tolerance: tol,
+        suspect_steps,
+        suspects,
         clean,
     })
 }

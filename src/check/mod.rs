@@ -39,6 +39,8 @@
 //! ```
 
 pub mod bind;
+pub mod culprit;
+mod culprit_rows;
 pub mod evaluate;
 pub mod inseparable;
 pub mod snap_cells;
@@ -53,6 +55,7 @@ use crate::signature::Signature;
 use serde::Serialize;
 
 pub use bind::{bind_cycle, BoundCycle, BoundOutput, SnapPolicy};
+pub use culprit::Suspect;
 pub use evaluate::{Evaluator, NumericFilter, Value, VerdictClass};
 pub use inseparable::{Inseparable, InseparableKind};
 pub use snap_cells::Snap;
@@ -222,6 +225,11 @@ pub struct OutputReport {
     pub noise_efficiency: f64,
     /// Tolerance analysis, if asked for.
     pub tolerance: Option<ToleranceReport>,
+    /// When the output is not clean: 1-based steps of the smallest changes found that make it
+    /// clean (union over [`Self::suspects`]).
+    pub suspect_steps: Vec<usize>,
+    /// The changes found, each with its proposed correction.
+    pub suspects: Vec<Suspect>,
     /// True when nothing leaks, no conjugate passes, no kept term is lost and no unwanted
     /// pathway shares a kept signature.
     pub clean: bool,

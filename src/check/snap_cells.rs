@@ -109,7 +109,7 @@ fn snap_one_phase(
         }
     }
     let h = if written.is_some() { h } else { 0.0 };
-    (Phase::Approx(x), h)
+    (Phase::Approx(x.rem_euclid(1.0)), h)
 }
 
 /// Weights of one output: the (snapped) weights, the radius left on each, and the snaps made.

@@ -252,6 +252,19 @@ fn render(r: &CheckReport) -> String {
                 );
             }
         }
+        for x in &o.suspects {
+            let _ = writeln!(
+                s,
+                "suspect ({}): {}; with it the output is clean",
+                x.kind, x.correction
+            );
+        }
+        if o.leak_count > 0 && o.suspects.is_empty() {
+            let _ = writeln!(
+                s,
+                "suspect: no single cell, weight or step change found that makes this output clean"
+            );
+        }
         for l in &o.lost {
             let _ = writeln!(s, "LOST: the wanted term {l} is cancelled (F = 0)");
         }
@@ -292,6 +305,21 @@ fn render(r: &CheckReport) -> String {
         r.first_leak_order
             .map_or(String::new(), |k| format!("; first leak order {k}"))
     );
+    let mut suspects: Vec<usize> = r
+        .outputs
+        .iter()
+        .flat_map(|o| o.suspect_steps.iter().copied())
+        .collect();
+    suspects.sort_unstable();
+    suspects.dedup();
+    if !suspects.is_empty() {
+        let list: Vec<String> = suspects.iter().map(usize::to_string).collect();
+        let _ = writeln!(
+            s,
+            "suspect step(s): {} (see the suspect lines)",
+            list.join(", ")
+        );
+    }
     s
 }
 
