@@ -2,12 +2,17 @@
 //! anything: each takes a finished result struct.
 
 pub mod combine_text;
+pub mod contour;
 pub mod design_summary;
 pub mod diagram_svg;
 pub mod diagram_text;
+pub mod fonts;
 pub mod leakage;
 pub mod leakage_svg;
 pub mod origin;
+#[cfg(feature = "png")]
+pub mod png;
+pub mod spectrum_svg;
 pub mod svg;
 pub mod wheels_svg;
 

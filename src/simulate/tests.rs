@@ -330,3 +330,46 @@ fn a_coarse_step_is_refused_unless_undersampling_is_asked_for() {
     assert!(err.to_string().contains("aliases"), "{err}");
     assert!(simulate_response(&exp, &dyn_, 0.0, &g, true).is_ok());
 }
+
+#[test]
+fn the_ladder_spectrum_renders_as_svg_and_png() {
+    use crate::render::spectrum_svg::{spectrum_svg, Component, Panel, SpectrumPicture};
+    let (exp, dyn_) = experiment(LADDER);
+    let g = grid(&["t1", "t2", "t3"], &["0:40:2000", "0", "0:40:2000"]);
+    let resp = simulate_response(&exp, &dyn_, 1900.0, &g, false).unwrap();
+    let r = spectrum(
+        &class_signal(&resp, PathwayClass::Rephasing),
+        &g,
+        1900.0,
+        ExcitationAxis::Flipped,
+    );
+    let nr = spectrum(
+        &class_signal(&resp, PathwayClass::NonRephasing),
+        &g,
+        1900.0,
+        ExcitationAxis::Direct,
+    );
+    let mut absorptive = nr.clone();
+    for (a, x) in absorptive.values.iter_mut().zip(&r.values) {
+        *a += x;
+    }
+    let pic = SpectrumPicture {
+        title: "Ladder g-e-f, absorptive R + NR (real part); the ESA peak lies 20 cm-1 below the diagonal".into(),
+        panels: vec![
+            Panel { caption: "R + NR".into(), spectrum: &absorptive },
+            Panel { caption: "non-rephasing only".into(), spectrum: &nr },
+        ],
+        component: Component::Real,
+        window: [1940.0, 2060.0],
+    };
+    let svg = spectrum_svg(&pic);
+    assert!(svg.contains("detection ω3 (cm-1)") && svg.contains("excitation ω1 (cm-1)"));
+    #[cfg(feature = "png")]
+    {
+        let png = crate::render::png::svg_to_png(&svg, 1.0).unwrap();
+        assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+        if let Ok(dir) = std::env::var("PATHSIEVE_PICTURES") {
+            std::fs::write(format!("{dir}/ladder-spectrum.png"), &png).unwrap();
+        }
+    }
+}
