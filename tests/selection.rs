@@ -230,6 +230,34 @@ fn rephasing_alone_in_pump_probe_is_no_phase_cycle_at_all_and_the_terms_are_iden
 }
 
 #[test]
+fn two_outputs_keeping_one_signature_are_named_as_equal_on_every_field_not_as_a_fixed_field() {
+    // Hand check: both outputs keep (-1,+1,0); the difference is zero on every field, so no
+    // field list applies and no remedy of cycling a fixed field can help (distinct characters
+    // only separate distinct signatures: common practice).
+    let e = exp(&format!(
+        "order = 3\n[detection]\nmode = \"pump-probe\"\n{}{LADDER}[[signal]]\nname = \"A\"\nsignatures = [[-1, 1, 0]]\n[[signal]]\nname = \"B\"\nsignatures = [[-1, 1, 0]]\n",
+        pulses(3, false).replace("name = \"3\"\n", "name = \"3\"\nphase = \"fixed\"\n")
+    ));
+    let (_, r) = run(&e, &SelectionRequest::default(), &DesignOptions::default());
+    let same: Vec<&Impossibility> = r
+        .impossible
+        .iter()
+        .filter(|i| matches!(i, Impossibility::FixedFields { rejected, kept, .. } if rejected.iter().any(|b| b == kept)))
+        .collect();
+    assert!(!same.is_empty(), "{:?}", r.impossible);
+    for i in same {
+        if let Impossibility::FixedFields { fields, .. } = i {
+            assert!(
+                fields.is_empty(),
+                "identical terms name no fixed field: {i:?}"
+            );
+        }
+    }
+    let text = pathsieve::render::design_summary::summary(&r);
+    assert!(!text.contains("only on the fixed field"), "{text}");
+}
+
+#[test]
 fn a_grid_refusal_is_true_and_the_named_finer_grid_lifts_it() {
     // R (-1,+1,+1,-1) and NR (+1,-1,+1,-1) differ by (2,-2,0,0): on 2 steps per turn every
     // step gives them the same phase factor; brute force over the whole grid.

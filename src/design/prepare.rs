@@ -87,34 +87,13 @@ pub fn prepare(sel: &Selection, opts: &DesignOptions) -> Result<Prepared, PlanEr
             });
         }
     }
-    // Terms that differ from a kept one only on fixed fields.
-    let fixed_names: Vec<String> = (0..exp.fields.len())
-        .filter(|j| !cycled.contains(j) && Some(*j) != fixed_by_global_phase)
-        .map(|j| exp.fields[j].name.clone())
-        .collect();
-    for o in &outputs {
-        for kept in &o.kept {
-            let t = restrict(kept, &cycled);
-            let others = rejected.iter().chain(
-                outputs
-                    .iter()
-                    .filter(|x| x.name != o.name)
-                    .flat_map(|x| &x.kept),
-            );
-            let same: Vec<Signature> = others
-                .filter(|b| restrict(b, &cycled) == t)
-                .cloned()
-                .collect();
-            if !same.is_empty() {
-                impossible.push(Impossibility::FixedFields {
-                    output: o.name.clone(),
-                    kept: kept.clone(),
-                    rejected: same,
-                    fields: fixed_names.clone(),
-                });
-            }
-        }
-    }
+    impossible.extend(fixed_field_refusals(
+        exp,
+        &cycled,
+        fixed_by_global_phase,
+        &outputs,
+        &rejected,
+    ));
 
     let grid = match &sel.grid {
         None => vec![0; cycled.len()],
@@ -163,4 +142,48 @@ fn contamination_text(exp: &Experiment, class: PathwayClass, via_conjugate: bool
     } else {
         format!("{} pathways carry the same signature; no phase cycle can separate them. Use another handle: pulse order, intensity dependence, beam geometry or spectral filtering", class.short())
     }
+}
+
+/// Terms (rejected, or kept by another output) equal to a kept term on every cycled field: one
+/// refusal per kept term for those equal on every field, and one naming the fixed fields on
+/// which the others differ (cycling one of those is the remedy).
+fn fixed_field_refusals(
+    exp: &Experiment,
+    cycled: &[usize],
+    fixed_by_global_phase: Option<usize>,
+    outputs: &[ResolvedSignal],
+    rejected: &[Signature],
+) -> Vec<Impossibility> {
+    let mut found = Vec::new();
+    for o in outputs {
+        for kept in &o.kept {
+            let t = restrict(kept, cycled);
+            let others = rejected.iter().chain(
+                outputs
+                    .iter()
+                    .filter(|x| x.name != o.name)
+                    .flat_map(|x| &x.kept),
+            );
+            let (equal, differ): (Vec<Signature>, Vec<Signature>) = others
+                .filter(|b| restrict(b, cycled) == t)
+                .cloned()
+                .partition(|b| b == kept);
+            let fields: Vec<String> = (0..exp.fields.len())
+                .filter(|j| !cycled.contains(j) && Some(*j) != fixed_by_global_phase)
+                .filter(|&j| differ.iter().any(|b| b.0[j] != kept.0[j]))
+                .map(|j| exp.fields[j].name.clone())
+                .collect();
+            for (rejected, fields) in [(equal, Vec::new()), (differ, fields)] {
+                if !rejected.is_empty() {
+                    found.push(Impossibility::FixedFields {
+                        output: o.name.clone(),
+                        kept: kept.clone(),
+                        rejected,
+                        fields,
+                    });
+                }
+            }
+        }
+    }
+    found
 }

@@ -243,7 +243,7 @@ pub fn cause_text(i: &Impossibility) -> String {
             format!("output `{output}` keeps {kept}, but {explanation}")
         }
         Impossibility::FixedFields { output, kept, rejected, fields } if fields.is_empty() => format!(
-            "output `{output}`: {} equal the kept {kept} on every field",
+            "output `{output}`: {} equal the kept {kept} on every field (a rejected term, or one another output keeps): no phase cycle at all separates them",
             list(rejected, ", ")
         ),
         Impossibility::FixedFields { output, kept, rejected, fields } => format!(
