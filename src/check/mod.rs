@@ -298,13 +298,9 @@ pub fn check(
     let mut outputs = Vec::new();
     for (oi, out) in bound.outputs.iter().enumerate() {
         let ev = Evaluator::new(&bound, out)?;
-        let others: Vec<(&str, &[Signature])> = bound
-            .outputs
-            .iter()
-            .enumerate()
-            .filter(|(j, _)| *j != oi)
-            .map(|(_, o)| (o.name.as_str(), o.kept.as_slice()))
-            .collect();
+        let others = crate::selection::other_outputs(&bound.outputs, oi, |o| {
+            (o.name.as_str(), o.kept.as_slice())
+        });
         let set = sel.rejection_for(&out.kept, &others);
         let first = sel
             .first_leak(&sel.search_set_for(&out.kept, &others), |b| {

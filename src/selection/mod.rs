@@ -322,13 +322,7 @@ impl Selection {
 
     /// The rejection set of experiment output `oi` (see [`Selection::rejection_for`]).
     pub fn rejection_of_output(&self, oi: usize) -> Vec<Term> {
-        let others: Vec<(&str, &[Signature])> = self
-            .outputs
-            .iter()
-            .enumerate()
-            .filter(|(j, _)| *j != oi)
-            .map(|(_, o)| (o.name.as_str(), o.kept.as_slice()))
-            .collect();
+        let others = other_outputs(&self.outputs, oi, |o| (o.name.as_str(), o.kept.as_slice()));
         self.rejection_for(&self.outputs[oi].kept, &others)
     }
 
@@ -399,4 +393,19 @@ fn resolve_grid(
             got: g.len(),
         }),
     }
+}
+
+/// Every output but `oi`, as `(name, kept terms)`: what [`Selection::rejection_for`] and
+/// [`Selection::search_set_for`] take as the terms other outputs keep.
+pub fn other_outputs<'a, T>(
+    outputs: &'a [T],
+    oi: usize,
+    view: impl Fn(&'a T) -> (&'a str, &'a [Signature]),
+) -> Vec<(&'a str, &'a [Signature])> {
+    outputs
+        .iter()
+        .enumerate()
+        .filter(|(j, _)| *j != oi)
+        .map(|(_, o)| view(o))
+        .collect()
 }
