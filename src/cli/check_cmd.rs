@@ -23,7 +23,8 @@ use std::path::PathBuf;
 pub struct CheckArgs {
     /// Experiment file (TOML).
     experiment: PathBuf,
-    /// Cycle table: a TOML cycle file or a CSV table (docs/cycle-format.md).
+    /// Cycle table: a TOML cycle file, a CSV table, the JSON or NPY export, or a NumPy
+    /// .npy/.npz array (docs/cycle-format.md).
     cycle: PathBuf,
     #[command(flatten)]
     rejection: RejectionArgs,
