@@ -153,6 +153,9 @@ pub struct RankInput<'a> {
     pub max_listed: usize,
 }
 
+/// Picks one tolerance figure of a term.
+type Pick = fn(&TermTolerance) -> Option<f64>;
+
 /// Weight every term by its background, rank, and judge against the threshold.
 pub fn rank(input: RankInput, req: &ImpactRequest) -> Impact {
     let sizes = input.exp.backgrounds.overlaid(&req.backgrounds);
@@ -173,7 +176,7 @@ pub fn rank(input: RankInput, req: &ImpactRequest) -> Impact {
             }
         })
         .collect();
-    let weighted_tol = |t: &TermImpact, f: fn(&TermTolerance) -> Option<f64>| {
+    let weighted_tol = |t: &TermImpact, f: Pick| {
         t.tolerance
             .as_ref()
             .and_then(f)
@@ -191,7 +194,7 @@ pub fn rank(input: RankInput, req: &ImpactRequest) -> Impact {
         |t| Some(t.weighted),
     )];
     if terms.iter().any(|t| t.tolerance.is_some()) {
-        let kinds: [(Figure, FigureClass, fn(&TermTolerance) -> Option<f64>); 3] = [
+        let kinds: [(Figure, FigureClass, Pick); 3] = [
             (Figure::WorstCase, FigureClass::WorstCaseBound, |x| {
                 Some(x.worst_case)
             }),
