@@ -9,10 +9,11 @@ use super::step_order::{float_weights, order_steps};
 use super::to_cycle::lattice_cycle;
 use super::verify::verify;
 use super::weighted_stage::{weighted_below, weighted_without_lattice};
-use super::yardsticks::min_cogwheel;
+use super::yardsticks::cogwheel_yardstick;
 use super::{prepare, DesignOptions, PlanError, Prepared};
 use crate::cycle::{Cycle, CycleMeta};
 use crate::design::lattice::{Lattice, SearchControl};
+use crate::design::yardsticks::CogwheelScan;
 use crate::selection::Selection;
 use crate::signature::Signature;
 use std::time::Instant;
@@ -61,12 +62,7 @@ pub fn design(
     let (lattice, rule) = choose(&found);
     record_lattice(&mut report, &found, &lattice, rule);
     let mut cycle = build_lattice_cycle(sel, &prep, &found, &lattice, &mut report)?;
-    let bound = found.design.nested_bound.unwrap_or(found.design.steps * 4);
-    report.cogwheel = Some(min_cogwheel(
-        &found.problem,
-        bound.max(found.design.steps),
-        5_000_000,
-    ));
+    report.cogwheel = Some(cogwheel_yardstick_of(&found, &lattice, ctl));
     if let Some(w) = weighted_below(sel, &prep, &found, &lattice, opts, ctl, &mut report) {
         cycle = w;
     }
@@ -163,4 +159,23 @@ fn build_lattice_cycle(
     let cycle = lattice_cycle(exp, &prep.cycled, &phases, &order.order, &sigs, meta)?;
     report.step_order = Some(order);
     Ok(cycle)
+}
+
+/// The cogwheel yardstick: from the lattice bound (the proven optimum, or the bound reached
+/// before an interruption) to the nested bound.
+fn cogwheel_yardstick_of(
+    found: &LatticeFound,
+    chosen: &Lattice,
+    ctl: &SearchControl,
+) -> CogwheelScan {
+    let d = &found.design;
+    let from = if found.proven_minimal {
+        d.steps
+    } else {
+        d.excluded_below
+    };
+    let to = d.nested_bound.unwrap_or(d.steps * 4).max(d.steps);
+    let mut candidates = vec![chosen];
+    candidates.extend(found.alternatives.iter());
+    cogwheel_yardstick(&found.problem, &candidates, from, to, ctl.cancel)
 }

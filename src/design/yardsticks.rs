@@ -2,19 +2,52 @@
 //! & Hughes, J. Magn. Reson. 155, 300 (2002)) found by a pruned exhaustive scan. (The first
 //! leak order is the checker's, on the written cycle.)
 
-use crate::design::lattice::LatticeProblem;
+use crate::design::lattice::{Lattice, LatticeProblem};
 use num_integer::Integer;
 use serde::Serialize;
+use std::sync::atomic::{AtomicBool, Ordering};
+
+/// Search nodes the cogwheel scan may visit (a yardstick, not a proof the design needs).
+pub const COGWHEEL_NODE_BUDGET: u64 = 5_000_000;
 
 /// Result of the cogwheel scan.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct CogwheelScan {
     /// The smallest cogwheel found: N and winding numbers (one per cycled field).
     pub best: Option<(u64, Vec<i64>)>,
-    /// Every N below this was scanned completely without a valid cogwheel.
+    /// Every N below this holds no valid cogwheel (scanned, or below the lattice optimum).
     pub excluded_below: u64,
     /// True if the scan stopped on its node budget.
     pub budget_exhausted: bool,
+    /// True if the scan was interrupted.
+    pub cancelled: bool,
+    /// True when the design itself (or an equally short lattice design) is cyclic: no scan ran.
+    pub optimum_is_cyclic: bool,
+}
+
+/// The cogwheel yardstick of a lattice search: a cyclic optimum (the chosen lattice or an
+/// equally short alternative) is itself the smallest cogwheel; otherwise the scan starts at
+/// the lattice bound (every cogwheel is a lattice design, so none lies below it) and stops at
+/// `to`, the nested bound.
+pub fn cogwheel_yardstick(
+    p: &LatticeProblem,
+    candidates: &[&Lattice],
+    lattice_bound: u64,
+    to: u64,
+    cancel: &AtomicBool,
+) -> CogwheelScan {
+    if let Some((n, nu)) = candidates.iter().find_map(|l| l.as_cogwheel()) {
+        if n == lattice_bound {
+            return CogwheelScan {
+                best: Some((n, nu)),
+                excluded_below: n,
+                budget_exhausted: false,
+                cancelled: false,
+                optimum_is_cyclic: true,
+            };
+        }
+    }
+    min_cogwheel(p, lattice_bound.max(1), to, COGWHEEL_NODE_BUDGET, cancel)
 }
 
 /// Difference vectors bucketed by the index of their last nonzero entry.
@@ -51,83 +84,120 @@ fn differences(p: &LatticeProblem) -> Vec<(Buckets, Buckets)> {
         .collect()
 }
 
-/// Scan N = 1..=max_n for the smallest valid cogwheel cycle.
-pub fn min_cogwheel(p: &LatticeProblem, max_n: u64, node_budget: u64) -> CogwheelScan {
+/// Scan N = from..=to for the smallest valid cogwheel cycle (the caller knows none lies
+/// below `from`).
+pub fn min_cogwheel(
+    p: &LatticeProblem,
+    from: u64,
+    to: u64,
+    node_budget: u64,
+    cancel: &AtomicBool,
+) -> CogwheelScan {
     let diffs = differences(p);
     let mut nodes = 0u64;
-    for n in 1..=max_n {
+    let stopped = |n: u64, cancelled: bool| CogwheelScan {
+        best: None,
+        excluded_below: n,
+        budget_exhausted: !cancelled,
+        cancelled,
+        optimum_is_cyclic: false,
+    };
+    for n in from.max(1)..=to {
+        if cancel.load(Ordering::Relaxed) {
+            return stopped(n, true);
+        }
         let mut nu = vec![0i64; p.dims];
-        match cog_dfs(p, &diffs, n as i64, 0, &mut nu, &mut nodes, node_budget) {
+        let mut dfs = CogDfs {
+            p,
+            diffs: &diffs,
+            n: n as i64,
+            nodes: &mut nodes,
+            budget: node_budget,
+            cancel,
+        };
+        match dfs.run(0, &mut nu) {
             Some(true) => {
                 return CogwheelScan {
                     best: Some((n, nu)),
                     excluded_below: n,
                     budget_exhausted: false,
+                    cancelled: false,
+                    optimum_is_cyclic: false,
                 }
             }
-            None => {
-                return CogwheelScan {
-                    best: None,
-                    excluded_below: n,
-                    budget_exhausted: true,
-                }
-            }
+            None => return stopped(n, cancel.load(Ordering::Relaxed)),
             Some(false) => {}
         }
     }
     CogwheelScan {
         best: None,
-        excluded_below: max_n + 1,
+        excluded_below: to + 1,
         budget_exhausted: false,
+        cancelled: false,
+        optimum_is_cyclic: false,
     }
 }
 
-/// Depth-first assignment of winding numbers; `None` when the budget ran out.
-fn cog_dfs(
-    p: &LatticeProblem,
-    diffs: &[(Buckets, Buckets)],
+/// One depth-first scan of winding numbers for a fixed N.
+struct CogDfs<'a> {
+    p: &'a LatticeProblem,
+    diffs: &'a [(Buckets, Buckets)],
     n: i64,
-    j: usize,
-    nu: &mut Vec<i64>,
-    nodes: &mut u64,
+    nodes: &'a mut u64,
     budget: u64,
-) -> Option<bool> {
-    if j == p.dims {
-        return Some(true);
-    }
-    for v in 0..n {
-        *nodes += 1;
-        if *nodes > budget {
-            return None;
+    cancel: &'a AtomicBool,
+}
+
+impl CogDfs<'_> {
+    /// Assign winding numbers from field `j` on; `None` when the budget ran out or the scan
+    /// was cancelled.
+    fn run(&mut self, j: usize, nu: &mut Vec<i64>) -> Option<bool> {
+        let (p, n) = (self.p, self.n);
+        if j == p.dims {
+            return Some(true);
         }
-        let grid = p.grid[j] as i64;
-        if grid > 0 && (grid * v) % n != 0 {
-            continue;
-        }
-        if let Some(cap) = p.max_phases_per_field {
-            if n / v.gcd(&n).max(1) > cap as i64 {
+        for v in 0..n {
+            *self.nodes += 1;
+            if *self.nodes > self.budget
+                || (*self.nodes % 4096 == 0 && self.cancel.load(Ordering::Relaxed))
+            {
+                return None;
+            }
+            if !self.allowed(j, v) {
                 continue;
             }
-        }
-        nu[j] = v;
-        let dot = |d: &Vec<i64>| {
-            d.iter()
-                .zip(nu.iter())
-                .map(|(a, b)| a * b)
-                .sum::<i64>()
-                .rem_euclid(n)
-        };
-        let ok = diffs.iter().all(|(forb, req)| {
-            forb[j].iter().all(|d| dot(d) != 0) && req[j].iter().all(|d| dot(d) == 0)
-        });
-        if ok {
-            match cog_dfs(p, diffs, n, j + 1, nu, nodes, budget) {
-                Some(true) => return Some(true),
-                None => return None,
-                Some(false) => {}
+            nu[j] = v;
+            let dot = |d: &Vec<i64>| {
+                d.iter()
+                    .zip(nu.iter())
+                    .map(|(a, b)| a * b)
+                    .sum::<i64>()
+                    .rem_euclid(n)
+            };
+            let ok = self.diffs.iter().all(|(forb, req)| {
+                forb[j].iter().all(|d| dot(d) != 0) && req[j].iter().all(|d| dot(d) == 0)
+            });
+            if ok {
+                match self.run(j + 1, nu) {
+                    Some(false) => {}
+                    other => return other,
+                }
             }
         }
+        nu[j] = 0;
+        Some(false)
     }
-    nu[j] = 0;
-    Some(false)
+
+    /// Winding number `v` on field `j` respects the grid and the phase cap.
+    fn allowed(&self, j: usize, v: i64) -> bool {
+        let n = self.n;
+        let grid = self.p.grid[j] as i64;
+        if grid > 0 && (grid * v) % n != 0 {
+            return false;
+        }
+        match self.p.max_phases_per_field {
+            Some(cap) => n / v.gcd(&n).max(1) <= cap as i64,
+            None => true,
+        }
+    }
 }

@@ -113,8 +113,12 @@ fn yardstick_text(r: &DesignReport, n: u64) -> String {
         Some(m) => format!(" The smallest nested cycle also needs {m} steps."),
         None => String::new(),
     };
+    let cyclic_design = matches!(r.kind, Some(DesignKind::Cogwheel { .. }));
     let cog = match &r.cogwheel {
-        Some(CogwheelScan { best: Some((m, nu)), .. }) => format!(" The smallest cogwheel cycle has {m} steps (winding numbers {nu:?})."),
+        Some(CogwheelScan { optimum_is_cyclic: true, .. }) if cyclic_design => String::new(),
+        Some(CogwheelScan { best: Some((m, nu)), optimum_is_cyclic: true, .. }) => format!(" An equally short lattice design is cyclic: the cogwheel cycle Cog{m}({}).", list(nu, ",")),
+        Some(CogwheelScan { best: Some((m, nu)), .. }) => format!(" The smallest cogwheel cycle has {m} steps (winding numbers {}).", list(nu, ",")),
+        Some(c) if c.cancelled => format!(" No cogwheel cycle with fewer than {} steps exists; the scan was interrupted there.", c.excluded_below),
         Some(c) if c.budget_exhausted => format!(" No cogwheel cycle with fewer than {} steps exists; the scan stopped on its budget there.", c.excluded_below),
         Some(c) => format!(" No cogwheel cycle with at most {} exists.", steps_text(c.excluded_below.saturating_sub(1))),
         None => String::new(),
