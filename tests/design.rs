@@ -128,7 +128,56 @@ fn spin_three_halves_mqmas_needs_no_more_than_cog23() {
         "{:?}",
         r.kind
     );
+    // The optimum is cyclic, so it is the smallest cogwheel: the yardstick says so without
+    // a scan of its own.
+    let cog = r.cogwheel.as_ref().expect("a cogwheel yardstick");
+    assert!(cog.optimum_is_cyclic);
+    assert_eq!(cog.best.as_ref().map(|b| b.0), Some(n));
     assert_passes_checker(&e, &r, RejectionSource::FromPathways);
+}
+
+#[test]
+fn the_cogwheel_yardstick_scans_only_between_the_optimum_and_the_nested_bound() {
+    // Tan, Chem. Phys. 2008 (nested 1x3x3x3 fluorescence cycle, from memory): the 27-step
+    // optimum is nested; no cogwheel of 27 steps or fewer exists, and the scan reports its
+    // range up to the nested bound, none below the lattice optimum needing a scan.
+    let e = read_experiment(&common::scheme("dye-fluorescence-2d.toml")).unwrap();
+    let r = run(&e, &SelectionRequest::default());
+    assert_eq!(r.steps, Some(27));
+    let cog = r.cogwheel.as_ref().expect("a cogwheel yardstick");
+    assert!(!cog.optimum_is_cyclic && cog.best.is_none());
+    assert!(!cog.cancelled && !cog.budget_exhausted);
+    assert_eq!(cog.excluded_below, r.nested_steps.unwrap() + 1);
+    // Brute force over every cogwheel Cog27(nu) with nu in [0, 27)^3 (independent of the
+    // scan): none is valid, as the lattice search's minimality at 27 and the report say.
+    let sel = Selection::new(&e, &SelectionRequest::default()).unwrap();
+    let prep = prepare(&sel, &DesignOptions::default()).unwrap();
+    let p = &prep.problem;
+    let mut any = false;
+    for a in 0..27i64 {
+        for b in 0..27i64 {
+            for c in 0..27i64 {
+                let nu = [a, b, c];
+                let class = |s: &Vec<i64>| {
+                    s.iter()
+                        .zip(&nu)
+                        .map(|(x, y)| x * y)
+                        .sum::<i64>()
+                        .rem_euclid(27)
+                };
+                let ok = p.outputs.iter().all(|o| {
+                    let t = class(&o.kept[0]);
+                    p.rejected.iter().all(|x| class(x) != t)
+                        && p.outputs
+                            .iter()
+                            .filter(|q| q.name != o.name)
+                            .all(|q| class(&q.kept[0]) != t)
+                });
+                any |= ok;
+            }
+        }
+    }
+    assert!(!any, "a 27-step cogwheel exists");
 }
 
 #[test]
