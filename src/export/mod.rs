@@ -2,7 +2,7 @@
 //! per format. Each writer returns bytes; putting them on disk is [`crate::safe_write`]'s job.
 //! Phase lists: [`phase_list`] (model, units), [`phase_formats`] (CSV, JSON, NPY),
 //! [`phase_import`] (reading them back), [`step_order`] (drift-robust order), [`meta`]
-//! (provenance); shaper masks: [`shaper`] (the shaper file) and [`mask`].
+//! (provenance), [`plan`] (a cycle checked, bound and ordered for export); shaper masks: [`shaper`] (the shaper file) and [`mask`].
 
 pub mod mask;
 pub mod meta;
@@ -11,5 +11,6 @@ pub mod npz;
 pub mod phase_formats;
 pub mod phase_import;
 pub mod phase_list;
+pub mod plan;
 pub mod shaper;
 pub mod step_order;
