@@ -15,6 +15,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use toml::Spanned;
 
+mod backgrounds;
 mod overlap;
 
 #[derive(Deserialize)]
@@ -34,6 +35,7 @@ struct RawExperiment {
     /// Read by `crate::simulate::parse_dynamics`; accepted here so the key is not unknown.
     #[serde(default, rename = "dynamics")]
     _dynamics: Option<toml::Value>,
+    backgrounds: Option<Spanned<BTreeMap<String, Spanned<toml::Value>>>>,
 }
 
 #[derive(Deserialize)]
@@ -270,8 +272,10 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
         overlap,
         swap_rnr_labels: raw.swap_rnr_labels,
         wanted: Vec::new(),
+        backgrounds: crate::model::Backgrounds::default(),
     };
     exp.wanted = build_signals(ctx, raw.signals, &exp)?;
+    exp.backgrounds = backgrounds::build_backgrounds(ctx, raw.backgrounds, &exp)?;
     Ok(exp)
 }
 

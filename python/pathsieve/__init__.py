@@ -107,9 +107,12 @@ class Cycle:
     ) -> "Cycle":
         """A cycle from arrays: ``phases`` (steps x fields) in ``unit`` (turns, deg, rad or
         index:M), ``weights`` (steps x outputs, complex) or a dict {output: weights} or None
-        (each wanted signal's weights derived from its signature). ``fields`` defaults to the
-        experiment's fields (fixed fields may be left out when named), ``outputs`` to its
-        wanted signals. Each float is taken as written in double precision."""
+        (each wanted signal's weights derived from its signature). Without ``fields`` the
+        columns are the experiment's cycled fields, or all its fields, in order (by count);
+        ``outputs`` defaults to its wanted signals. Phases are read as ``pathsieve check``
+        reads a bare NumPy array: whole ``index:M`` values are exact, other floats snap to
+        exact fractions within the checker's snapping tolerance (each snap is reported);
+        weights are taken as written in double precision."""
         ph = np.ascontiguousarray(np.asarray(phases, dtype=np.float64))
         if ph.ndim == 1 and fields is not None and len(fields) == 1:
             ph = ph.reshape(-1, 1)
@@ -283,9 +286,11 @@ def check(
 
     ``phases`` is a :class:`Cycle` or an array (steps x fields) in ``unit`` (turns, deg, rad,
     index:M); ``weights`` an array (steps x outputs, complex), a dict {output: weights} or None
-    (derived from each wanted signal's signature). Float values are taken as written in double
-    precision and snapped to exact fractions only within that precision; the report's
-    ``class`` of each output says how its verdict was reached."""
+    (derived from each wanted signal's signature). Without ``fields`` the columns are the
+    experiment's cycled fields, or all its fields (by count). The same array gets the same
+    verdict as ``pathsieve check`` gives it saved with ``np.save``: float phases snap to exact
+    fractions within the checker's snapping tolerance, listed in ``report["snaps"]``; each
+    output's ``class`` says how its verdict was reached."""
     if isinstance(phases, Cycle):
         if weights is not None or fields is not None or outputs is not None or unit != "turns":
             raise PathsieveError(

@@ -70,8 +70,9 @@ impl PyCycle {
     }
 
     /// A cycle from arrays: `phases` (steps x fields, in `unit`), optional `weights` (steps x
-    /// outputs, complex). `fields` defaults to the experiment's fields, `outputs` to its wanted
-    /// signals. Each float is taken as written in double precision.
+    /// outputs, complex). Without `fields` the columns are the experiment's cycled fields or
+    /// all its fields (by count); `outputs` defaults to its wanted signals. Phases are read as
+    /// `pathsieve check` reads a bare NumPy array.
     #[staticmethod]
     #[pyo3(signature = (experiment, phases, weights = None, unit = "turns", fields = None, outputs = None))]
     fn from_arrays(
@@ -83,7 +84,8 @@ impl PyCycle {
         outputs: Option<Vec<String>>,
     ) -> PyResult<Self> {
         let u = crate::arrays::unit(unit)?;
-        let fields = fields.unwrap_or_else(|| experiment.exp.field_names());
+        // No names: the checker assigns the columns (one per cycled field, or one per field).
+        let fields = fields.unwrap_or_default();
         let outs = match weights {
             None => Vec::new(),
             Some(w) => {

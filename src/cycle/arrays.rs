@@ -1,15 +1,17 @@
-//! A cycle from numeric arrays: phases as doubles in a unit (one row per step, one column per
-//! field) and weights as complex doubles, the form NumPy users hold. Each value is taken as
-//! written in double precision: its written half-width is the double-precision floor the
-//! checker trusts ([`DOUBLE_FLOOR`] of a turn), so `1/3` computed in floating point snaps to
-//! the exact third and a wrong cell stays wrong. Grid indices (`GridIndex(M)`) that are whole
-//! numbers are exact `k/M` turns. Unit plausibility warnings ([`super::plausible`]) are
-//! recorded as for a CSV table.
+//! A cycle from in-memory arrays (the Python bindings' route): phases as doubles in a unit,
+//! one row per step, and weights as complex doubles. Phases are read exactly as `pathsieve
+//! check` reads a bare NumPy array ([`crate::export::array_import`]), so the same array gets
+//! the same verdict in Python and on the command line: whole grid indices are exact `k/M`
+//! turns; other floats carry no decimal precision and the checker snaps them within its
+//! snapping tolerance, as it does `~` cells (the report lists every snap). With no field names
+//! the binder assigns the columns (one per cycled field, or one per field). Weights are taken
+//! as written in double precision (radius 0 plus the checker's double-precision floor). Unit
+//! plausibility warnings ([`super::plausible`]) are recorded as for a CSV table.
 
 use super::plausible::unit_warning;
-use super::{Cycle, CycleMeta, CycleOutput, Phase, Weight, WeightSource, WrittenForm};
-use crate::exact::snap::DOUBLE_FLOOR;
-use crate::exact::{reduce_turn, PhaseUnit, Turns};
+use super::{Cycle, CycleMeta, CycleOutput, Weight, WeightSource, WrittenForm};
+use crate::exact::PhaseUnit;
+use crate::export::phase_import::to_phase;
 use crate::limits::MAX_STEPS;
 use num_complex::Complex64;
 
@@ -46,40 +48,12 @@ pub enum ArrayError {
         /// The value as text.
         value: String,
     },
-    /// A grid index that is not a whole number.
-    #[error("step {step}, field {field}: {value} is not a whole grid index of the {m}-step grid; give integers k (phase k/{m} turn) or another unit")]
-    NotIndex {
-        /// 1-based step.
-        step: usize,
-        /// Field name.
-        field: String,
-        /// The value.
-        value: f64,
-        /// The grid.
-        m: u32,
-    },
 }
 
-/// One phase value in `unit` as a phase and its written half-width in turns.
-fn phase_of(value: f64, unit: PhaseUnit) -> Option<(Phase, f64)> {
-    let turns = match unit {
-        PhaseUnit::Turns => value,
-        PhaseUnit::Degrees => value / 360.0,
-        PhaseUnit::Radians => value / std::f64::consts::TAU,
-        PhaseUnit::GridIndex(m) => {
-            if value.fract() != 0.0 || value.abs() >= 9e15 {
-                return None;
-            }
-            let t = Turns::new(value as i64, i64::from(m));
-            return Some((Phase::Exact(reduce_turn(t)), 0.0));
-        }
-    };
-    Some((Phase::Approx(turns), DOUBLE_FLOOR * turns.abs().max(1.0)))
-}
-
-/// Build a cycle from `phases` (rows = steps, one value per entry of `fields`, in `unit`) and
-/// explicit `outputs` (name and one weight per step each; empty: the checker derives each
-/// wanted signal's weights from its signature).
+/// Build a cycle from `phases` (rows = steps, one value per entry of `fields`, in `unit`; with
+/// `fields` empty, rows of any one width whose columns the binder assigns) and explicit
+/// `outputs` (name and one weight per step each; empty: the checker derives each wanted
+/// signal's weights from its signature).
 ///
 /// # Errors
 /// [`ArrayError`] naming the step and column of a bad value or the wrong shape.
@@ -93,53 +67,46 @@ pub fn cycle_from_arrays(
     if n == 0 || n > MAX_STEPS {
         return Err(ArrayError::StepCount { steps: n });
     }
+    let width = if fields.is_empty() {
+        phases[0].len()
+    } else {
+        fields.len()
+    };
+    let column = |j: usize| fields.get(j).cloned().unwrap_or_else(|| (j + 1).to_string());
     let mut steps = Vec::with_capacity(n);
-    let mut half = Vec::with_capacity(n);
     for (m, row) in phases.iter().enumerate() {
-        if row.len() != fields.len() {
+        if row.len() != width || width == 0 {
             return Err(ArrayError::Shape {
                 what: format!("phase row {}", m + 1),
                 found: row.len(),
-                expected: fields.len(),
-                fix: format!("give one column per field [{}]", fields.join(", ")),
+                expected: width.max(1),
+                fix: if fields.is_empty() {
+                    "give every row the same number of columns (steps x fields)".into()
+                } else {
+                    format!("give one column per field [{}]", fields.join(", "))
+                },
             });
         }
-        let mut ps = Vec::with_capacity(row.len());
-        let mut hs = Vec::with_capacity(row.len());
-        for (j, &v) in row.iter().enumerate() {
-            if !v.is_finite() {
-                return Err(ArrayError::NotFinite {
-                    step: m + 1,
-                    column: fields[j].clone(),
-                    value: v.to_string(),
-                });
-            }
-            let (p, h) = phase_of(v, unit).ok_or_else(|| ArrayError::NotIndex {
+        if let Some(j) = row.iter().position(|v| !v.is_finite()) {
+            return Err(ArrayError::NotFinite {
                 step: m + 1,
-                field: fields[j].clone(),
-                value: v,
-                m: match unit {
-                    PhaseUnit::GridIndex(m) => m,
-                    _ => 0,
-                },
-            })?;
-            ps.push(p);
-            hs.push(Some(h));
+                column: column(j),
+                value: row[j].to_string(),
+            });
         }
-        steps.push(ps);
-        half.push(hs);
+        steps.push(row.iter().map(|&v| to_phase(v, unit, None)).collect::<Vec<_>>());
     }
-    let warnings = fields
-        .iter()
-        .enumerate()
-        .filter_map(|(j, f)| {
-            let raw: Vec<f64> = steps.iter().map(|r| r[j].turns_f64()).collect();
-            let raw: Vec<f64> = match unit {
-                // Exact phases are reduced into [0, 1); test the values as given.
-                PhaseUnit::GridIndex(m) => phases.iter().map(|r| r[j] / f64::from(m)).collect(),
-                _ => raw,
+    let warnings = (0..width)
+        .filter_map(|j| {
+            let factor = match unit {
+                PhaseUnit::Turns => 1.0,
+                PhaseUnit::Degrees => 1.0 / 360.0,
+                PhaseUnit::Radians => 1.0 / std::f64::consts::TAU,
+                PhaseUnit::GridIndex(m) => 1.0 / f64::from(m),
             };
-            unit_warning(f, unit, &raw)
+            // The values as given (exact phases are reduced into [0, 1)), in turns.
+            let raw: Vec<f64> = phases.iter().map(|r| r[j] * factor).collect();
+            unit_warning(&column(j), unit, &raw)
         })
         .collect();
     let mut outs = Vec::with_capacity(outputs.len());
@@ -172,8 +139,12 @@ pub fn cycle_from_arrays(
         outputs: outs,
         meta: CycleMeta {
             written: Some(WrittenForm {
-                dialect: Some("arrays (float64 phases, complex128 weights)".into()),
-                phase_half_width: half,
+                dialect: Some(format!(
+                    "arrays (float64 phases in {}, complex128 weights)",
+                    super::text::unit_name(unit)
+                )),
+                // No recorded half-width: floats snap within the checker's tolerance.
+                phase_half_width: Vec::new(),
                 weight_radius,
                 warnings,
             }),
@@ -185,9 +156,11 @@ pub fn cycle_from_arrays(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::cycle::Phase;
+    use crate::exact::Turns;
 
     #[test]
-    fn thirds_computed_in_floating_point_stay_approximate_with_the_double_floor() {
+    fn float_phases_are_approximate_without_a_recorded_precision() {
         let c = cycle_from_arrays(
             vec!["1".into()],
             &[vec![0.0], vec![1.0 / 3.0], vec![2.0 / 3.0]],
@@ -196,12 +169,16 @@ mod tests {
         )
         .unwrap();
         assert!(matches!(c.steps[1][0], Phase::Approx(_)));
-        let h = c.meta.written.as_ref().unwrap().phase_half_width[1][0].unwrap();
-        assert!(h > 0.0 && h < 1e-14);
+        let form = c.meta.written.as_ref().unwrap();
+        assert!(form.phase_half_width.is_empty());
+        assert_eq!(
+            WrittenForm::phase_half_width(Some(form), 1, 0, &c.steps[1][0]),
+            None
+        );
     }
 
     #[test]
-    fn whole_grid_indices_are_exact_and_fractional_ones_are_refused() {
+    fn whole_grid_indices_are_exact_and_fractional_ones_approximate() {
         let c = cycle_from_arrays(
             vec!["1".into()],
             &[vec![0.0], vec![5.0]],
@@ -210,14 +187,9 @@ mod tests {
         )
         .unwrap();
         assert_eq!(c.steps[1][0], Phase::Exact(Turns::new(1, 4)));
-        let e = cycle_from_arrays(
-            vec!["1".into()],
-            &[vec![0.5]],
-            PhaseUnit::GridIndex(4),
-            vec![],
-        )
-        .unwrap_err();
-        assert!(e.to_string().contains("step 1, field 1"), "{e}");
+        let c = cycle_from_arrays(vec![], &[vec![0.5]], PhaseUnit::GridIndex(4), vec![]).unwrap();
+        assert_eq!(c.steps[0][0], Phase::Approx(0.125));
+        assert!(c.fields.is_empty());
     }
 
     #[test]

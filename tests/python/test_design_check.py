@@ -88,15 +88,25 @@ def test_check_of_the_cycle_object_is_exact_and_clean(dye, dye_cycle):
     assert r["clean"] is True and r["exact"] is True
 
 
-def test_float_thirds_snap_only_within_double_precision(dye, dye_cycle):
-    # 1/3 computed in floating point is within a few ulp of 1/3: exact after snapping.
+def test_float_phases_snap_within_the_tolerance_and_every_snap_is_listed(dye, dye_cycle):
+    # 1/3 computed in floating point is the exact third after snapping.
     r = pathsieve.check(dye, dye_cycle.phases)
-    assert r["exact"] is True
-    # 1e-9 turn off is far outside double precision: no snap, a numeric verdict with a bound.
+    assert r["exact"] is True and r["clean"] is True
+    # 1e-7 turn off is inside the snapping tolerance (1e-5 turn): snapped, and the snap shown.
     ph = dye_cycle.phases.copy()
-    ph[4, 2] += 1e-9
+    ph[4, 2] = (ph[4, 2] + 1e-7) % 1.0
     r = pathsieve.check(dye, ph)
-    assert r["exact"] is False
+    assert r["clean"] is True
+    assert [(s["step"], s["column"]) for s in r["snaps"]] == [(5, "3")]
+    # 1e-3 turn off is not: a numeric verdict, which finds the leak.
+    ph[4, 2] = (dye_cycle.phases[4, 2] + 1e-3) % 1.0
+    assert pathsieve.check(dye, ph)["clean"] is False
+
+
+def test_columns_of_the_cycled_fields_only_are_assigned_by_count(dye, dye_cycle):
+    # Field 1 is fixed: three columns are the cycled fields 2, 3, 4.
+    r = pathsieve.check(dye, dye_cycle.phases[:, 1:])
+    assert r["clean"] is True
 
 
 def test_a_wrong_cell_leaks_and_numpy_agrees_on_the_leak(dye, dye_cycle):

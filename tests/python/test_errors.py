@@ -26,9 +26,11 @@ def test_a_missing_file_is_named(tmp_path):
         pathsieve.read_experiment(p)
 
 
-def test_phases_of_the_wrong_width_name_the_fields(dye):
-    with pytest.raises(pathsieve.PathsieveError, match=r"1, 2, 3, 4"):
+def test_phases_of_the_wrong_width_say_what_fits(dye):
+    with pytest.raises(pathsieve.PathsieveError, match="3 cycled fields and 4 fields in all"):
         pathsieve.check(dye, np.zeros((27, 2)))
+    with pytest.raises(pathsieve.PathsieveError, match=r"one column per field \[1, 2\]"):
+        pathsieve.check(dye, np.zeros((27, 3)), fields=["1", "2"])
 
 
 def test_a_nan_phase_names_step_and_column(dye, dye_cycle):
@@ -43,9 +45,12 @@ def test_an_unknown_unit_lists_the_units(dye, dye_cycle):
         pathsieve.check(dye, dye_cycle.phases, unit="grad")
 
 
-def test_fractional_grid_indices_are_refused(dye, dye_cycle):
-    with pytest.raises(pathsieve.PathsieveError, match="whole grid index"):
-        pathsieve.check(dye, dye_cycle.phases * 3 + 0.5, unit="index:3")
+def test_fractional_grid_indices_are_phases_off_the_grid(dye, dye_cycle):
+    # k/M turn for any k, as the command line reads them: half a step off the grid leaks.
+    k = np.rint(dye_cycle.phases * 3)
+    assert pathsieve.check(dye, k, unit="index:3")["clean"] is True
+    k[5, 2] += 0.5
+    assert pathsieve.check(dye, k, unit="index:3")["clean"] is False
 
 
 def test_weights_with_the_wrong_column_count(dye, dye_cycle):
