@@ -9,6 +9,7 @@ use num_complex::Complex64;
 use numpy::{PyArray1, PyArray2};
 use pathsieve::export::mask::masks_for_cycle;
 use pathsieve::export::meta::ExportMeta;
+use pathsieve::export::phase_formats::exported_weights;
 use pathsieve::export::phase_list::{Cell, ExportUnit, PhaseList};
 use pathsieve::export::plan::{plan_export, ExportPlan, RowOrder};
 use pathsieve::export::shaper::parse_shaper;
@@ -95,6 +96,7 @@ fn meta(experiment: &PyExperiment, p: &ExportPlan, content: &str, unit: String) 
         step_order: String::new(),
         source_steps: p.list.source_steps.clone(),
         notes: p.notes.clone(),
+        weights: exported_weights(&p.list),
     }
 }
 

@@ -72,7 +72,12 @@ pub fn cycle_from_arrays(
     } else {
         fields.len()
     };
-    let column = |j: usize| fields.get(j).cloned().unwrap_or_else(|| (j + 1).to_string());
+    let column = |j: usize| {
+        fields
+            .get(j)
+            .cloned()
+            .unwrap_or_else(|| (j + 1).to_string())
+    };
     let mut steps = Vec::with_capacity(n);
     for (m, row) in phases.iter().enumerate() {
         if row.len() != width || width == 0 {
@@ -94,7 +99,11 @@ pub fn cycle_from_arrays(
                 value: row[j].to_string(),
             });
         }
-        steps.push(row.iter().map(|&v| to_phase(v, unit, None)).collect::<Vec<_>>());
+        steps.push(
+            row.iter()
+                .map(|&v| to_phase(v, unit, None))
+                .collect::<Vec<_>>(),
+        );
     }
     let warnings = (0..width)
         .filter_map(|j| {

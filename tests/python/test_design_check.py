@@ -97,7 +97,9 @@ def test_float_phases_snap_within_the_tolerance_and_every_snap_is_listed(dye, dy
     ph[4, 2] = (ph[4, 2] + 1e-7) % 1.0
     r = pathsieve.check(dye, ph)
     assert r["clean"] is True
-    assert [(s["step"], s["column"]) for s in r["snaps"]] == [(5, "3")]
+    snapped = {(s["step"], s["column"]): s for s in r["snaps"]}
+    assert len(snapped) == 27 * 4  # every float cell is snapped, and listed
+    assert snapped[(5, "3")]["written"] != snapped[(5, "3")]["exact"]
     # 1e-3 turn off is not: a numeric verdict, which finds the leak.
     ph[4, 2] = (dye_cycle.phases[4, 2] + 1e-3) % 1.0
     assert pathsieve.check(dye, ph)["clean"] is False
