@@ -1,12 +1,12 @@
 //! `pathsieve design`: the smallest phase cycle for an experiment, with its proof of
 //! minimality, a step table, a summary paragraph, JSON, and the cycle file the checker reads.
 
+use super::design_progress::{install_ctrl_c, with_progress, ProgressMode, CANCEL};
 use super::output::{print, print_json, table, RejectionArgs};
 use anyhow::bail;
 use clap::Args;
-use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use pathsieve::cycle::{Cycle, Phase};
-use pathsieve::design::lattice::{Progress, SearchControl};
+use pathsieve::design::lattice::SearchControl;
 use pathsieve::design::lattice_stage::ClassLayout;
 use pathsieve::design::{cycled_fields, design, DesignOptions, DesignReport};
 use pathsieve::experiment_file::read_experiment;
@@ -14,10 +14,7 @@ use pathsieve::render::design_summary;
 use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
 use std::path::PathBuf;
-use std::sync::atomic::{AtomicBool, Ordering};
-use std::time::{Duration, Instant};
 
-static CANCEL: AtomicBool = AtomicBool::new(false);
 
 /// Arguments of `pathsieve design`.
 #[derive(Args, Debug)]
@@ -43,6 +40,14 @@ pub struct DesignArgs {
     /// Largest step count the weighted search tries (at most 16).
     #[arg(long, value_name = "K", default_value_t = pathsieve::design::weighted::MAX_BEYOND_STEPS)]
     weighted_max_steps: usize,
+    /// Stop the search after this many seconds and return the best design so far with its
+    /// proven lower bound (as Ctrl-C does).
+    #[arg(long, value_name = "SECONDS")]
+    time_limit: Option<f64>,
+    /// Progress display: a terminal line (auto), JSON lines on stderr once a second (json),
+    /// or none.
+    #[arg(long, value_enum, default_value_t = ProgressMode::Auto)]
+    progress: ProgressMode,
     /// Write the cycle file (TOML, read by `pathsieve check`) here.
     #[arg(long, value_name = "CYCLE.toml")]
     out: Option<PathBuf>,
@@ -67,6 +72,9 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     let exp = read_experiment(&a.file)?;
     if a.max_steps == 0 {
         bail!("--max-steps must be at least 1");
+    }
+    if a.time_limit.is_some_and(|t| !(t > 0.0 && t.is_finite())) {
+        bail!("--time-limit must be a positive number of seconds");
     }
     if a.weighted_max_steps > pathsieve::design::weighted::MAX_BEYOND_STEPS {
         bail!(
@@ -95,44 +103,22 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         beyond_step_sets: a.weighted_work,
         beyond_max_steps: a.weighted_max_steps,
     };
-    let _ = ctrlc::set_handler(|| CANCEL.store(true, Ordering::SeqCst));
-    let bar = ProgressBar::with_draw_target(None, ProgressDrawTarget::hidden());
-    bar.set_style(
-        ProgressStyle::with_template("{spinner} {elapsed} {msg}")
-            .unwrap_or_else(|_| ProgressStyle::default_spinner()),
-    );
-    bar.set_message("searching (Ctrl-C: best so far)");
-    let progress = |p: Progress| {
-        bar.set_message(format!(
-            "designs of >= {} steps, {} tested (Ctrl-C: best so far)",
-            p.index, p.lattices_tested
-        ));
+    install_ctrl_c();
+    let progress = if a.json && a.progress == ProgressMode::Auto {
+        ProgressMode::None
+    } else {
+        a.progress
     };
-    let ctl = SearchControl {
-        cancel: &CANCEL,
-        progress: Some(&progress),
-    };
-    // The progress line appears only when the search runs longer than a second.
-    let done = AtomicBool::new(false);
-    let report = std::thread::scope(|scope| {
-        if !a.json {
-            scope.spawn(|| {
-                let started = Instant::now();
-                while !done.load(Ordering::SeqCst) {
-                    if started.elapsed() > Duration::from_secs(1) {
-                        bar.set_draw_target(ProgressDrawTarget::stderr());
-                        bar.enable_steady_tick(Duration::from_millis(120));
-                        break;
-                    }
-                    std::thread::sleep(Duration::from_millis(20));
-                }
-            });
-        }
-        let r = design(&sel, &req, &ctl);
-        done.store(true, Ordering::SeqCst);
-        r
+    let report = with_progress(progress, a.time_limit, |cb| {
+        design(
+            &sel,
+            &req,
+            &SearchControl {
+                cancel: &CANCEL,
+                progress: Some(cb),
+            },
+        )
     })?;
-    bar.finish_and_clear();
     let code = if report.steps.is_some() { 0 } else { 1 };
     if let (Some(path), Some(cycle)) = (&a.out, &report.cycle) {
         let text = pathsieve::cycle::toml_format::write_cycle_toml(cycle);

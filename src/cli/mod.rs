@@ -4,6 +4,7 @@ mod agnostic_cmd;
 mod check_cmd;
 mod combine_cmd;
 mod design_cmd;
+mod design_progress;
 mod draw_cmd;
 mod export_cmd;
 mod output;

@@ -31,6 +31,8 @@ pub struct Progress {
     pub index: u64,
     /// Candidate HNF rows examined so far.
     pub lattices_tested: u64,
+    /// Steps of the best valid design known so far (a seed), if any.
+    pub best: Option<u64>,
 }
 
 /// Cancellation and progress hooks for a search.
@@ -163,7 +165,7 @@ fn run(
         &problem.grid,
         problem.max_phases_per_field,
     );
-    let seeded = nested_seed(&engine, problem.max_steps);
+    let seeded = nested_seed(&engine, problem.max_steps, ctl.cancel);
     let nested_exact = seeded.as_ref().is_some_and(|s| s.1);
     let nested = seeded.map(|s| s.0);
     let nested_bound = nested.as_ref().map(Lattice::index);
@@ -171,6 +173,7 @@ fn run(
     if let Some(c) = korobov_seed(
         &engine,
         best.as_ref().map_or(problem.max_steps, |l| l.index() - 1),
+        ctl.cancel,
     ) {
         best = Some(c);
     }
@@ -192,6 +195,7 @@ fn run(
             cb(Progress {
                 index: lo,
                 lattices_tested: tested,
+                best: best.as_ref().map(Lattice::index),
             });
         }
         let cancelled_out = |best: Option<Lattice>, lo: u64, tested: u64| match best {

@@ -2,16 +2,26 @@
 //! nested cycle (exact, by branch and bound, within a node budget) and a budgeted scan
 //! of Korobov-type cogwheels `nu = (1, a, a^2, ...) mod N`.
 
+use std::sync::atomic::{AtomicBool, Ordering};
+
 use super::engine::Engine;
 use super::group::gcd;
 use super::hnf::Lattice;
 
 const NESTED_BUDGET: u64 = 20_000_000;
+/// Forbidden-difference tests the exact nested search may make (about a second): the seed
+/// must come fast, whatever the size of the rejection set.
+const NESTED_WORK_BUDGET: u64 = 200_000_000;
 const KOROBOV_BUDGET: u64 = 3_000_000;
 
 /// Smallest nested cycle with at most `max_steps` steps, as `(lattice, exact)`;
-/// `exact` is false if the node budget ran out (the lattice is then only valid).
-pub(crate) fn nested_seed(e: &Engine, max_steps: u64) -> Option<(Lattice, bool)> {
+/// `exact` is false if the node or work budget ran out or `cancel` was set (the lattice is then
+/// only valid).
+pub(crate) fn nested_seed(
+    e: &Engine,
+    max_steps: u64,
+    cancel: &AtomicBool,
+) -> Option<(Lattice, bool)> {
     let n = e.n;
     // c_j must divide R_j: the gcd of the required differences' entries and M_j.
     let mut rj = vec![0i64; n];
@@ -29,11 +39,13 @@ pub(crate) fn nested_seed(e: &Engine, max_steps: u64) -> Option<(Lattice, bool)>
         best: max_steps.saturating_add(1),
         best_c: None,
         nodes: 0,
+        work: 0,
+        cancel,
     };
     // Greedy bound first, then the exact branch and bound.
     st.greedy();
     st.dfs(&mut Vec::new(), 1);
-    let exact = st.nodes <= NESTED_BUDGET;
+    let exact = st.nodes <= NESTED_BUDGET && !cancel.load(Ordering::Relaxed);
     let c = st.best_c?;
     let rows = (0..n)
         .map(|i| {
@@ -51,6 +63,8 @@ struct Nested<'a> {
     best: u64,
     best_c: Option<Vec<u64>>,
     nodes: u64,
+    work: u64,
+    cancel: &'a AtomicBool,
 }
 
 impl Nested<'_> {
@@ -63,7 +77,8 @@ impl Nested<'_> {
     }
 
     /// True if no forbidden difference decided at level k lies in the prefix.
-    fn clean(&self, k: usize, c: &[u64]) -> bool {
+    fn clean(&mut self, k: usize, c: &[u64]) -> bool {
+        self.work += self.e.forb[k].len() as u64;
         !self.e.forb[k]
             .iter()
             .any(|d| d[..=k].iter().zip(c).all(|(&x, &ci)| x % ci as i64 == 0))
@@ -112,6 +127,12 @@ impl Nested<'_> {
             if self.nodes > NESTED_BUDGET || p * v >= self.best {
                 return;
             }
+            if self.work > NESTED_WORK_BUDGET
+                || (self.nodes % 1024 == 0 && self.cancel.load(Ordering::Relaxed))
+            {
+                self.nodes = NESTED_BUDGET + 1;
+                return;
+            }
             if !self.allowed(k, v) {
                 continue;
             }
@@ -126,7 +147,8 @@ impl Nested<'_> {
 
 /// First Korobov-type cogwheel `nu = (1, a, a^2, ...) mod N`, `N < bound`, passing
 /// all constraints, within a fixed budget of dot products.
-pub(crate) fn korobov_seed(e: &Engine, bound: u64) -> Option<Lattice> {
+/// Stops early when `cancel` is set.
+pub(crate) fn korobov_seed(e: &Engine, bound: u64, cancel: &AtomicBool) -> Option<Lattice> {
     let n = e.n;
     let forb: Vec<&Vec<i64>> = e.forb.iter().flatten().collect();
     let req: Vec<&Vec<i64>> = e.req.iter().flatten().collect();
@@ -170,7 +192,7 @@ pub(crate) fn korobov_seed(e: &Engine, bound: u64) -> Option<Lattice> {
             if ok {
                 return Lattice::from_cogwheel(nn, &nu).ok();
             }
-            if work > KOROBOV_BUDGET {
+            if work > KOROBOV_BUDGET || cancel.load(Ordering::Relaxed) {
                 return None;
             }
         }
