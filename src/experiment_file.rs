@@ -3,7 +3,9 @@
 
 use crate::error::InputError;
 pub use crate::input_text::read_text;
-use crate::limits::{MAX_COHERENCE, MAX_FIELDS, MAX_INTERACTIONS_PER_PULSE, MAX_ORDER, MAX_STATES};
+use crate::limits::{
+    MAX_COHERENCE, MAX_FIELDS, MAX_INTERACTIONS_PER_PULSE, MAX_ORDER, MAX_OUTPUTS, MAX_STATES,
+};
 use crate::model::{
     Detection, Experiment, Field, FieldKind, LevelScheme, PathwayClass, PhaseControl, State,
     Transition, WantedItem, WantedSignal,
@@ -15,6 +17,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use toml::Spanned;
 
+mod numbers;
 mod overlap;
 
 #[derive(Deserialize)]
@@ -68,7 +71,7 @@ struct RawLevels {
 struct RawState {
     name: Spanned<String>,
     manifold: Spanned<i64>,
-    energy: Option<f64>,
+    energy: Option<Spanned<f64>>,
     #[serde(rename = "yield")]
     yield_weight: Option<Spanned<f64>>,
 }
@@ -168,16 +171,17 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
                 .as_ref()
                 .map(|s| *s.get_ref())
                 .unwrap_or(-1);
-            if d.abs() > m {
+            if !(-m..=m).contains(&d) {
                 return Err(ctx.err(
                     det_span,
                     "detection.detected_coherence",
                     format!("{d} lies outside -{m}..={m}"),
                 ));
             }
+            // Both lie in -MAX_COHERENCE..=MAX_COHERENCE (checked above), so they fit i32.
             Detection::Nmr {
-                max_coherence: m as i32,
-                detected: d as i32,
+                max_coherence: i32::try_from(m).unwrap_or(MAX_COHERENCE),
+                detected: i32::try_from(d).unwrap_or(-1),
             }
         }
         other => {
@@ -312,23 +316,14 @@ fn build_levels(ctx: &Ctx, raw: Spanned<RawLevels>) -> Result<LevelScheme, Input
         }
         let default_yield = if m == 0 { 0.0 } else { 1.0 };
         let y = match &s.yield_weight {
-            Some(y) => {
-                let v = *y.get_ref();
-                if !v.is_finite() {
-                    return Err(ctx.err(
-                        y.span(),
-                        "levels.states.yield",
-                        "yield must be a finite number",
-                    ));
-                }
-                v
-            }
+            Some(y) => numbers::yield_weight(ctx, y)?,
             None => default_yield,
         };
+        let energy = numbers::energy(ctx, &s.energy)?;
         states.push(State {
             name,
             manifold: m as u32,
-            energy: s.energy,
+            energy,
             yield_weight: y,
         });
     }
@@ -555,11 +550,8 @@ fn build_fields(
                 toml::Value::Array(a) if (1..=3).contains(&a.len()) => {
                     let mut v = Vec::new();
                     for x in a {
-                        let r = match x {
-                            toml::Value::Integer(i) => Ratio::from_integer(*i),
-                            toml::Value::Float(fl) if fl.is_finite() => Ratio::approximate_float(*fl).unwrap_or_default(),
-                            _ => return Err(ctx.err(b.span(), "field.beam", "beam components must be numbers")),
-                        };
+                        let r = numbers::beam_component(x)
+                            .map_err(|m| ctx.err(b.span(), "field.beam", m))?;
                         v.push(r);
                     }
                     numeric_dims = numeric_dims.max(v.len());
@@ -659,6 +651,16 @@ fn build_signals(
     raw: Vec<Spanned<RawSignal>>,
     exp: &Experiment,
 ) -> Result<Vec<WantedSignal>, InputError> {
+    if raw.len() > MAX_OUTPUTS {
+        return Err(ctx.err(
+            raw[MAX_OUTPUTS].span(),
+            "signal",
+            format!(
+                "{} [[signal]] tables; at most {MAX_OUTPUTS} are allowed (each is one output of every cycle)",
+                raw.len()
+            ),
+        ));
+    }
     let mut out: Vec<WantedSignal> = Vec::new();
     for s in raw {
         let span = s.span();
@@ -685,7 +687,7 @@ fn build_signals(
             if v.len() != exp.fields.len() {
                 return Err(ctx.err(sig.span(), "signal.signatures", format!("signature has {} components but the experiment has {} fields ({}); give one integer per field, LO included", v.len(), exp.fields.len(), exp.field_names().join(", "))));
             }
-            let sig = Signature(v.clone());
+            let sig = Signature(numbers::signature_entries(ctx, sig, "signal.signatures")?);
             if sig.sum() != 0 {
                 return Err(ctx.err(span.clone(), "signal.signatures", format!("signature {sig} sums to {}; every detected term sums to 0 over all fields (include the LO or receiver)", sig.sum())));
             }

@@ -3,6 +3,7 @@
 //! submodules ([`toml_format`], [`csv_format`], shared cell texts in [`text`]); this module holds
 //! the data, its exact/float views and [`read_cycle`], which picks the format by extension.
 
+pub mod bounds;
 pub mod csv_format;
 pub mod dialect;
 pub mod plausible;

@@ -283,17 +283,36 @@ impl Experiment {
             .max()
             .unwrap_or(0);
         (0..dims).all(|d| {
-            let total: num_rational::Ratio<i64> = self
-                .fields
-                .iter()
-                .zip(b.as_slice())
-                .filter_map(|(f, &bj)| {
-                    f.beam
-                        .as_ref()
-                        .map(|v| v.get(d).copied().unwrap_or_default() * bj)
-                })
-                .sum();
-            total == num_rational::Ratio::from_integer(0)
+            let terms = self.fields.iter().zip(b.as_slice()).filter_map(|(f, &bj)| {
+                f.beam
+                    .as_ref()
+                    .map(|v| (v.get(d).copied().unwrap_or_default(), bj))
+            });
+            beam_sum_is_zero(terms)
         })
+    }
+}
+
+/// `sum_j k_j * b_j == 0`, exactly and without overflow: checked `i128` rationals, and big
+/// rationals should even those overflow (the reader bounds beams and signatures, so the fast
+/// path always suffices for a file; the fallback keeps the library total for any caller).
+fn beam_sum_is_zero(terms: impl Iterator<Item = (num_rational::Ratio<i64>, i64)> + Clone) -> bool {
+    use num_rational::{BigRational, Ratio};
+    use num_traits::{CheckedAdd, CheckedMul, Zero};
+    let fast = terms
+        .clone()
+        .try_fold(Ratio::<i128>::zero(), |acc, (k, bj)| {
+            let k = Ratio::new(i128::from(*k.numer()), i128::from(*k.denom()));
+            acc.checked_add(&k.checked_mul(&Ratio::from_integer(i128::from(bj)))?)
+        });
+    match fast {
+        Some(total) => total.is_zero(),
+        None => terms
+            .map(|(k, bj)| {
+                BigRational::new((*k.numer()).into(), (*k.denom()).into())
+                    * BigRational::from_integer(bj.into())
+            })
+            .fold(BigRational::zero(), |a, x| a + x)
+            .is_zero(),
     }
 }
