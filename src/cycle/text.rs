@@ -120,7 +120,7 @@ pub fn format_phase(p: &Phase) -> String {
                 format!("{}/{}", t.numer(), t.denom())
             }
         }
-        Phase::Approx(x) => format!("~{x:?}"),
+        Phase::Approx(x) => format!("~{}", crate::numfmt::decimal(*x)),
     }
 }
 
@@ -167,7 +167,8 @@ fn format_cyclo(c: &Cyclo) -> String {
 
 fn format_complex_approx(z: Complex64) -> String {
     let sign = if z.im < 0.0 { "-" } else { "+" };
-    format!("~{:?}{sign}{:?}i", z.re, z.im.abs())
+    use crate::numfmt::decimal;
+    format!("~{}{sign}{}i", decimal(z.re), decimal(z.im.abs()))
 }
 
 #[cfg(test)]
