@@ -422,8 +422,11 @@ pub enum Content<'a> {
     /// Bytes already in memory.
     Bytes(&'a [u8]),
     /// Bytes produced piece by piece into the temporary file.
-    Stream(Box<dyn FnOnce(&mut dyn Write) -> io::Result<()> + 'a>),
+    Stream(Filler<'a>),
 }
+
+/// A function that streams a file's bytes into the writer it is given.
+pub type Filler<'a> = Box<dyn FnOnce(&mut dyn Write) -> io::Result<()> + 'a>;
 
 /// [`write_many_atomic`] where some files are streamed (see [`Content`]).
 ///
