@@ -346,3 +346,40 @@ fn csv_rows_are_counted_while_streaming() {
     assert!(err.contains("exceed the limit of 4000000 cells"), "{err}");
     assert!(err.contains("long.csv:"), "{err}");
 }
+
+#[test]
+fn nmr_summaries_are_bounded_by_memory_before_work() {
+    let dir = temp_dir();
+    // Six pulses and max_coherence 12: 25^5 = 9.8 M coherence paths, each its own signature.
+    let mut text = String::from(
+        "title = \"wide NMR\"\n[detection]\nmode = \"nmr\"\nmax_coherence = 12\ndetected_coherence = -1\n",
+    );
+    for k in 1..=6 {
+        text.push_str(&format!("[[field]]\nname = \"p{k}\"\n"));
+    }
+    text.push_str("[[field]]\nname = \"rec\"\nkind = \"receiver\"\n");
+    let p = put(&dir, "wide-nmr.toml", &text);
+    let (code, _, err) = run_bounded(&["pathways", &p, "--summary"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("distinct signatures in the summary"), "{err}");
+}
+
+#[test]
+fn overflowing_weights_are_located_errors_not_nan_verdicts() {
+    let dir = temp_dir();
+    let exp = common::scheme("carbonyl-pump-probe.toml");
+    let cycle = carbonyl_cycle(2, r#"weights = ["1", "-1", "-1", "exp(1000)"]"#);
+    let p = put(&dir, "big.cycle.toml", &cycle);
+    refused(
+        &["check", exp.to_str().unwrap(), &p],
+        "overflows double precision",
+    );
+    let (_, _, err) = run_within(
+        Duration::from_secs(20),
+        &["check", exp.to_str().unwrap(), &p],
+    );
+    assert!(
+        err.contains("big.cycle.toml:") && err.contains("weight of step 4"),
+        "{err}"
+    );
+}

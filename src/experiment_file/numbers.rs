@@ -56,7 +56,7 @@ fn decimal_ratio(text: &str) -> Option<Ratio<i64>> {
     let digits: i64 = format!("{int}{frac}").parse().ok()?;
     let den = 10i64.checked_pow(u32::try_from(frac.len()).ok()?)?;
     let r = Ratio::new(if neg { -digits } else { digits }, den);
-    (r.numer().abs() <= MAX_BEAM_COMPONENT * den).then_some(r)
+    (r.numer().abs() <= MAX_BEAM_COMPONENT * r.denom()).then_some(r)
 }
 
 /// A state's energy: finite when given.
