@@ -17,6 +17,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use toml::Spanned;
 
+mod backgrounds;
 mod numbers;
 mod overlap;
 
@@ -37,6 +38,7 @@ struct RawExperiment {
     /// Read by `crate::simulate::parse_dynamics`; accepted here so the key is not unknown.
     #[serde(default, rename = "dynamics")]
     _dynamics: Option<toml::Value>,
+    backgrounds: Option<Spanned<BTreeMap<String, Spanned<toml::Value>>>>,
 }
 
 #[derive(Deserialize)]
@@ -274,8 +276,10 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
         overlap,
         swap_rnr_labels: raw.swap_rnr_labels,
         wanted: Vec::new(),
+        backgrounds: crate::model::Backgrounds::default(),
     };
     exp.wanted = build_signals(ctx, raw.signals, &exp)?;
+    exp.backgrounds = backgrounds::build_backgrounds(ctx, raw.backgrounds, &exp)?;
     Ok(exp)
 }
 

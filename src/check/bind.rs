@@ -167,6 +167,18 @@ pub fn bind_cycle(
         .iter()
         .map(|f| f.phase == PhaseControl::Fixed)
         .collect();
+    let assigned;
+    let mut notes = Vec::new();
+    let cycle = if cycle.fields.is_empty() && !cycle.steps.is_empty() {
+        assigned = assign_columns(exp, cycle)?;
+        notes.push(format!(
+            "the array names no fields: its columns are taken as the experiment's fields {} in order",
+            assigned.fields.join(", ")
+        ));
+        &assigned
+    } else {
+        cycle
+    };
     let mismatch = |detail: String| CheckError::FieldMismatch {
         detail,
         cycle: cycle.fields.clone(),
@@ -192,7 +204,6 @@ pub fn bind_cycle(
             )));
         }
     }
-    let mut notes = Vec::new();
     // Fixed fields given in the table must be constant.
     for (j, c) in col.iter().enumerate() {
         if let (true, Some(c)) = (fixed[j], *c) {
@@ -261,6 +272,37 @@ pub fn bind_cycle(
         outputs,
         notes,
         snaps,
+    })
+}
+
+/// A cycle whose columns carry no field names (a bare NumPy array): one column per cycled field
+/// of the experiment, or one per field, in the experiment's order.
+fn assign_columns(exp: &Experiment, cycle: &Cycle) -> Result<Cycle, CheckError> {
+    let width = cycle.steps[0].len();
+    let cycled: Vec<String> = exp
+        .fields
+        .iter()
+        .filter(|f| f.phase != PhaseControl::Fixed)
+        .map(|f| f.name.clone())
+        .collect();
+    let fields = if width == cycled.len() {
+        cycled
+    } else if width == exp.fields.len() {
+        exp.field_names()
+    } else {
+        return Err(CheckError::FieldMismatch {
+            detail: format!(
+                "the array has {width} columns but the experiment has {} cycled fields and {} fields in all; save one column per cycled field in the experiment's order, or export with pathsieve (its sidecar names the fields)",
+                cycled.len(),
+                exp.fields.len()
+            ),
+            cycle: Vec::new(),
+            experiment: exp.field_names(),
+        });
+    };
+    Ok(Cycle {
+        fields,
+        ..cycle.clone()
     })
 }
 

@@ -4,7 +4,7 @@
 //! precision ([`NumericFilter::bound`]), and the verdict class says which.
 
 use super::bind::{BoundCycle, BoundOutput};
-use super::{inseparable, tolerance};
+use super::{impact, inseparable, tolerance};
 use super::{CheckError, CheckOptions, ConjugateTerm, FirstLeak, KeptTerm, Leak, OutputReport};
 use crate::cycle::{Weight, WeightSource};
 use crate::exact::ExactFilter;
@@ -240,6 +240,9 @@ pub fn check_output(
     let mut conjugates = Vec::new();
     let mut leaks = Vec::new();
     let mut leak_count = 0usize;
+    // |F(b)| / |F(t)| per term: the exact modulus (0 when cancelled), or the written value
+    // plus its precision bound.
+    let mut figures = Vec::with_capacity(set.len());
     for Term {
         signature: b,
         origin,
@@ -247,6 +250,11 @@ pub fn check_output(
     } in set
     {
         let zero = ev.is_zero(&b.0)?;
+        figures.push(match ev.bound(&b.0) {
+            Some(r) => (ev.approx(&b.0).norm() + r) / ref_abs,
+            None if zero => 0.0,
+            None => ev.approx(&b.0).norm() / ref_abs,
+        });
         if *origin == Origin::Conjugate {
             conjugates.push(ConjugateTerm {
                 signature: b.clone(),
@@ -277,10 +285,28 @@ pub fn check_output(
         .filter_map(|t| ev.bound(&t.signature.0))
         .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))));
     let insep = inseparable::find(exp, bound, out, &leaks, &conjugates);
+    let per_term = req.tolerance.as_ref().map(|t| {
+        let upper = |b: &crate::signature::Signature| {
+            ev.approx(&b.0).norm() + ev.bound(&b.0).unwrap_or(0.0)
+        };
+        tolerance::per_term(bound, out, set, ref_abs, t, upper)
+    });
     let tol = req
         .tolerance
         .as_ref()
-        .map(|t| tolerance::analyse(bound, out, set, ref_abs, t));
+        .zip(per_term.as_ref())
+        .map(|(t, terms)| tolerance::summarise(t, terms));
+    let impact = impact::rank(
+        impact::RankInput {
+            exp,
+            set,
+            leaks: &figures,
+            exact: ev.is_exact(),
+            tolerance: per_term,
+            max_listed: req.max_listed,
+        },
+        &req.impact,
+    );
     let clean = leak_count == 0
         && lost.is_empty()
         && conjugates.iter().all(|c| c.cancelled)
@@ -322,6 +348,7 @@ pub fn check_output(
         first_leak: first,
         inseparable: insep,
         tolerance: tol,
+        impact,
         suspect_steps,
         suspects,
         clean,

@@ -2,9 +2,10 @@
 //! experiment with its kept and rejected terms, built once for every command), and reports
 //! what the cycle keeps, what leaks (with exact values), the first leak order, the conjugate
 //! terms of real detection, inseparable pairs, noise efficiency, the phases used and, on
-//! request, a floating-point tolerance analysis. This module owns the options and report
-//! types and the orchestration; the work is done in [`bind`], [`evaluate`], [`inseparable`]
-//! and [`tolerance`]; the rejection sets and the first-leak search come from the selection.
+//! request, a floating-point tolerance analysis, and which leaks matter given the sizes of
+//! their backgrounds. This module owns the options and report types and the orchestration;
+//! the work is done in [`bind`], [`evaluate`], [`inseparable`], [`tolerance`] and [`impact`];
+//! the rejection sets and the first-leak search come from the selection.
 //!
 //! ```
 //! use pathsieve::check::{check_cycle, CheckRequest};
@@ -42,6 +43,7 @@ pub mod bind;
 pub mod culprit;
 mod culprit_rows;
 pub mod evaluate;
+pub mod impact;
 pub mod inseparable;
 pub mod snap_cells;
 pub mod tolerance;
@@ -57,6 +59,7 @@ use serde::Serialize;
 pub use bind::{bind_cycle, BoundCycle, BoundOutput, SnapPolicy};
 pub use culprit::Suspect;
 pub use evaluate::{Evaluator, NumericFilter, Value, VerdictClass};
+pub use impact::{Impact, ImpactRequest};
 pub use inseparable::{Inseparable, InseparableKind};
 pub use snap_cells::Snap;
 pub use tolerance::{ToleranceReport, ToleranceRequest};
@@ -102,6 +105,8 @@ pub struct CheckOptions {
     pub tolerance: Option<ToleranceRequest>,
     /// At most this many leaks listed per output.
     pub max_listed: usize,
+    /// Background sizes laid over the experiment's and the threshold for leaks that matter.
+    pub impact: ImpactRequest,
 }
 
 impl Default for CheckOptions {
@@ -110,6 +115,7 @@ impl Default for CheckOptions {
             snap: SnapPolicy::default(),
             tolerance: None,
             max_listed: DEFAULT_MAX_LISTED,
+            impact: ImpactRequest::default(),
         }
     }
 }
@@ -225,6 +231,8 @@ pub struct OutputReport {
     pub noise_efficiency: f64,
     /// Tolerance analysis, if asked for.
     pub tolerance: Option<ToleranceReport>,
+    /// Every rejected term weighted by its background size, ranked, with threshold verdicts.
+    pub impact: Impact,
     /// When the output is not clean: 1-based steps of the smallest changes found that make it
     /// clean (union over [`Self::suspects`]).
     pub suspect_steps: Vec<usize>,

@@ -2,7 +2,8 @@
 //! leakage of each rejected term when every applied phase of a cycled field errs by up to
 //! `delta` (worst-case bound) or by independent Gaussian errors of standard deviation `delta`
 //! (closed-form RMS), under quantisation of the phases to a `B`-bit grid, and the first moment
-//! of the lowest-order backgrounds under a slow linear drift of the signal over the cycle.
+//! of the lowest-order backgrounds under a slow linear drift of the signal over the cycle. The
+//! figures are per rejected term ([`per_term`]); [`summarise`] gives the maxima and rankings.
 
 use super::bind::{BoundCycle, BoundOutput};
 use super::evaluate::float_filter;
@@ -67,24 +68,39 @@ fn top(mut v: Vec<TermFigure>) -> (f64, Vec<TermFigure>) {
     (max, v)
 }
 
-/// Analyse `out` over its rejection set `set` (conjugates included).
-pub fn analyse(
+/// The tolerance figures of one rejected term, relative to `|F(t)|`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct TermTolerance {
+    /// The rejected signature.
+    pub signature: Signature,
+    /// Worst case over every applied phase error up to `delta` (a bound).
+    pub worst_case: f64,
+    /// RMS over independent Gaussian phase errors of standard deviation `delta` (an
+    /// expectation, closed form).
+    pub rms: f64,
+    /// After quantising the phases to `2^B` steps per turn (floating point), if asked for.
+    pub quantised: Option<f64>,
+    /// First moment under a slow linear drift, for terms with `sum |b| <= 2`.
+    pub drift: Option<f64>,
+}
+
+/// Per-term tolerance figures of `out` over its rejection set `set` (conjugates included).
+/// `upper(b)` is an upper bound on `|F(b)|` of the table as checked (its exact modulus, or the
+/// written value plus its precision bound).
+pub fn per_term(
     bound: &BoundCycle,
     out: &BoundOutput,
     set: &[Term],
     ref_abs: f64,
     req: &ToleranceRequest,
-) -> ToleranceReport {
+    upper: impl Fn(&Signature) -> f64,
+) -> Vec<TermTolerance> {
     let phases = bound.phases_f64();
     let w: Vec<Complex64> = out.weights.iter().map(Weight::to_complex).collect();
     let sum_abs: f64 = w.iter().map(|x| x.norm()).sum();
     let sum_sq: f64 = w.iter().map(|x| x.norm_sqr()).sum();
     let n = w.len();
     let d = req.delta_turns.abs();
-    let mut worst = Vec::new();
-    let mut rms = Vec::new();
-    let mut quant = Vec::new();
-    let mut drift = Vec::new();
     let qphases: Option<Vec<Vec<f64>>> = req.bits.map(|bits| {
         let m = 2f64.powi(bits.min(52) as i32);
         phases
@@ -92,8 +108,9 @@ pub fn analyse(
             .map(|r| r.iter().map(|p| (p * m).round() / m).collect())
             .collect()
     });
+    let mut terms = Vec::with_capacity(set.len());
     for Term { signature: b, .. } in set {
-        let f = float_filter(&phases, &w, &b.0);
+        let f_abs = upper(b);
         // Only cycled fields err; fixed fields keep one phase throughout.
         let (l1, l2sq) =
             b.0.iter()
@@ -104,27 +121,16 @@ pub fn analyse(
                 });
         // |exp(i a) - 1| <= 2 sin(min(a, pi)/2) with |a| <= 2 pi delta |b|_1 per step.
         let a = (std::f64::consts::TAU * d * l1).min(std::f64::consts::PI);
-        let wc = f.norm() + sum_abs * 2.0 * (a / 2.0).sin();
-        worst.push(TermFigure {
-            signature: b.clone(),
-            relative: wc / ref_abs,
-        });
+        let wc = f_abs + sum_abs * 2.0 * (a / 2.0).sin();
         // Gaussian errors: alpha_m ~ N(0, s2), E e^{i alpha} = e^{-s2/2};
         // E|F'|^2 = |F|^2 e^{-s2} + sum |w|^2 (1 - e^{-s2}).
         let s2 = (std::f64::consts::TAU * d).powi(2) * l2sq;
         let e = (-s2).exp();
-        let r = (f.norm_sqr() * e + sum_sq * (1.0 - e)).max(0.0).sqrt();
-        rms.push(TermFigure {
-            signature: b.clone(),
-            relative: r / ref_abs,
-        });
-        if let Some(q) = &qphases {
-            quant.push(TermFigure {
-                signature: b.clone(),
-                relative: float_filter(q, &w, &b.0).norm() / ref_abs,
-            });
-        }
-        if b.weight() <= 2 && n > 1 {
+        let r = (f_abs * f_abs * e + sum_sq * (1.0 - e)).max(0.0).sqrt();
+        let quantised = qphases
+            .as_ref()
+            .map(|q| float_filter(q, &w, &b.0).norm() / ref_abs);
+        let drift = (b.weight() <= 2 && n > 1).then(|| {
             let mom: Complex64 = phases
                 .iter()
                 .zip(&w)
@@ -135,16 +141,37 @@ pub fn analyse(
                     wm * s * Complex64::from_polar(1.0, std::f64::consts::TAU * x)
                 })
                 .sum();
-            drift.push(TermFigure {
-                signature: b.clone(),
-                relative: mom.norm() / ref_abs,
-            });
-        }
+            mom.norm() / ref_abs
+        });
+        terms.push(TermTolerance {
+            signature: b.clone(),
+            worst_case: wc / ref_abs,
+            rms: r / ref_abs,
+            quantised,
+            drift,
+        });
     }
-    let (worst_case_max, worst_case) = top(worst);
-    let (rms_max, rms) = top(rms);
-    let (qmax, quantised) = top(quant);
-    let (_, drift) = top(drift);
+    terms
+}
+
+/// The summary of per-term figures: maxima and the top terms of each ranking.
+pub fn summarise(req: &ToleranceRequest, terms: &[TermTolerance]) -> ToleranceReport {
+    let fig = |f: &dyn Fn(&TermTolerance) -> Option<f64>| -> Vec<TermFigure> {
+        terms
+            .iter()
+            .filter_map(|t| {
+                f(t).map(|relative| TermFigure {
+                    signature: t.signature.clone(),
+                    relative,
+                })
+            })
+            .collect()
+    };
+    let (worst_case_max, worst_case) = top(fig(&|t| Some(t.worst_case)));
+    let (rms_max, rms) = top(fig(&|t| Some(t.rms)));
+    let (qmax, quantised) = top(fig(&|t| t.quantised));
+    let (_, drift) = top(fig(&|t| t.drift));
+    let d = req.delta_turns.abs();
     ToleranceReport {
         delta_turns: d,
         delta_degrees: d * 360.0,

@@ -5,12 +5,15 @@
 use super::output::{print, print_json, table, RejectionArgs};
 use anyhow::{bail, Context};
 use clap::Args;
+use pathsieve::check::ImpactRequest;
 use pathsieve::check::{
     check_cycle, CheckOptions, CheckReport, CheckRequest, SnapPolicy, ToleranceRequest,
 };
 use pathsieve::cycle::{read_cycle, text::parse_unit};
 use pathsieve::exact::{parse_phase, PhaseUnit, PhaseValue};
 use pathsieve::experiment_file::read_experiment;
+use pathsieve::model::backgrounds::{check_size, parse_key, BackgroundRule, KEY_FORMS};
+use pathsieve::model::{Backgrounds, Experiment};
 use pathsieve::selection::SelectionRequest;
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -20,7 +23,8 @@ use std::path::PathBuf;
 pub struct CheckArgs {
     /// Experiment file (TOML).
     experiment: PathBuf,
-    /// Cycle table: a TOML cycle file or a CSV table (docs/cycle-format.md).
+    /// Cycle table: a TOML cycle file, a CSV table, the JSON or NPY export, or a NumPy
+    /// .npy/.npz array (docs/cycle-format.md).
     cycle: PathBuf,
     #[command(flatten)]
     rejection: RejectionArgs,
@@ -47,6 +51,14 @@ pub struct CheckArgs {
     /// With --tolerance: also quantise the phases to 2^B steps per turn.
     #[arg(long, value_name = "B")]
     bits: Option<u32>,
+    /// Size of a background relative to the wanted signal, KEY=SIZE (repeatable; overrides the
+    /// experiment's [backgrounds]): KEY is default, unmodulated, scatter, pair, order-K or a
+    /// signature such as (+1,-1,0,0). Leaks are ranked by |F(b)| x size / |F(t)|.
+    #[arg(long = "background", value_name = "KEY=SIZE")]
+    backgrounds: Vec<String>,
+    /// Flag a weighted leak above this fraction of the wanted signal (default 0.01).
+    #[arg(long, value_name = "FRACTION")]
+    threshold: Option<f64>,
     /// List at most this many leaks per output (all are counted).
     #[arg(long, value_name = "N", default_value_t = pathsieve::check::DEFAULT_MAX_LISTED)]
     max_listed: usize,
@@ -109,18 +121,27 @@ fn request(a: &CheckArgs) -> anyhow::Result<CheckRequest> {
             snap,
             tolerance,
             max_listed: a.max_listed,
+            impact: ImpactRequest {
+                threshold: match a.threshold {
+                    Some(t) if t.is_finite() && t >= 0.0 => t,
+                    Some(t) => bail!("--threshold {t}: give a fraction of the wanted signal, a number >= 0 such as 0.01"),
+                    None => pathsieve::check::impact::DEFAULT_THRESHOLD,
+                },
+                backgrounds: Backgrounds::default(),
+            },
         },
     })
 }
 
 /// Run the subcommand.
 pub fn run(a: CheckArgs) -> anyhow::Result<u8> {
-    let req = request(&a)?;
+    let mut req = request(&a)?;
     let unit = match &a.unit {
         Some(u) => Some(parse_unit(u).map_err(|m| anyhow::anyhow!("--unit: {m}"))?),
         None => None,
     };
     let exp = read_experiment(&a.experiment)?;
+    req.options.impact.backgrounds = background_args(&a.backgrounds, &exp)?;
     let cycle = read_cycle(&a.cycle, unit)?;
     let report = check_cycle(&exp, &cycle, &req).with_context(|| {
         format!(
@@ -135,6 +156,27 @@ pub fn run(a: CheckArgs) -> anyhow::Result<u8> {
         print(&render(&report))?;
     }
     Ok(if report.clean { 0 } else { 1 })
+}
+
+/// The `--background KEY=SIZE` options as size rules.
+fn background_args(args: &[String], exp: &Experiment) -> anyhow::Result<Backgrounds> {
+    let mut out = Backgrounds::default();
+    for a in args {
+        let Some((k, v)) = a.rsplit_once('=') else {
+            bail!("--background `{a}`: write KEY=SIZE, e.g. --background scatter=1e3; KEY is {KEY_FORMS}");
+        };
+        let key = parse_key(k, exp).map_err(|m| anyhow::anyhow!("--background: {m}"))?;
+        let size: f64 = v.trim().parse().map_err(|_| {
+            anyhow::anyhow!("--background `{a}`: `{v}` is not a number; write e.g. {k}=1e3")
+        })?;
+        let size = check_size(k, size).map_err(|m| anyhow::anyhow!("--background: {m}"))?;
+        out.set(BackgroundRule {
+            key,
+            size,
+            given_in: "--background".into(),
+        });
+    }
+    Ok(out)
 }
 
 fn render(r: &CheckReport) -> String {
@@ -276,7 +318,7 @@ fn render(r: &CheckReport) -> String {
             );
         }
         if let Some(tol) = &o.tolerance {
-            let _ = writeln!(s, "tolerance (phase error {:.4} deg): worst-case leak bound {:.3e} (first order in the error), RMS leak {:.3e} (relative to |F(t)|){}", tol.delta_degrees, tol.worst_case_max, tol.rms_max, match (tol.bits, tol.quantised_max) { (Some(b), Some(q)) => format!("; {b}-bit quantisation leak {q:.3e}"), _ => String::new() });
+            let _ = writeln!(s, "tolerance (phase error {:.4} deg): worst-case leak bound {:.3e} (a bound), RMS leak {:.3e} (an expectation; relative to |F(t)|){}", tol.delta_degrees, tol.worst_case_max, tol.rms_max, match (tol.bits, tol.quantised_max) { (Some(b), Some(q)) => format!("; {b}-bit quantisation leak {q:.3e}"), _ => String::new() });
             let d: Vec<String> = tol
                 .drift
                 .iter()
@@ -289,6 +331,7 @@ fn render(r: &CheckReport) -> String {
                 d.join(", ")
             );
         }
+        render_impact(&mut s, o);
     }
     let _ = writeln!(
         s,
@@ -305,6 +348,7 @@ fn render(r: &CheckReport) -> String {
         r.first_leak_order
             .map_or(String::new(), |k| format!("; first leak order {k}"))
     );
+    render_threshold_verdict(&mut s, r);
     let mut suspects: Vec<usize> = r
         .outputs
         .iter()
@@ -321,6 +365,104 @@ fn render(r: &CheckReport) -> String {
         );
     }
     s
+}
+
+/// Leaks weighted by their backgrounds: the top terms (when sizes were given, a tolerance
+/// analysed or something leaks) and one threshold line per figure, each with its class.
+fn render_impact(s: &mut String, o: &pathsieve::check::OutputReport) {
+    const SHOWN: usize = 8;
+    let im = &o.impact;
+    let has_tol = o.tolerance.is_some();
+    if im.backgrounds_given || has_tol || o.leak_count > 0 {
+        let mut head = vec![
+            "term",
+            "background",
+            "from",
+            "leak |F|/|F(t)|",
+            "x background",
+        ];
+        if has_tol {
+            head.extend(["worst case x bg", "RMS x bg"]);
+        }
+        let mut t = table(&head);
+        for x in im.terms.iter().take(SHOWN) {
+            let mut row = vec![
+                x.signature.to_string(),
+                format!("{:.3e}", x.background.size),
+                x.background.rule.clone(),
+                fmt_abs(x.leak),
+                fmt_abs(x.weighted),
+            ];
+            if let Some(tt) = &x.tolerance {
+                row.push(fmt_abs(tt.worst_case * x.background.size));
+                row.push(fmt_abs(tt.rms * x.background.size));
+            }
+            t.add_row(row);
+        }
+        let _ = writeln!(s, "leaks weighted by background size, largest first:\n{t}");
+    }
+    for v in &im.verdicts {
+        let _ = writeln!(
+            s,
+            "threshold ({}): largest {} x background = {}{} ({}) is {} {} of the wanted signal",
+            v.figure.label(),
+            if v.figure == pathsieve::check::impact::Figure::Leak {
+                "|F(b)|/|F(t)|"
+            } else {
+                "figure"
+            },
+            fmt_abs(v.largest),
+            v.signature
+                .as_ref()
+                .map_or(String::new(), |b| format!(" at {b}")),
+            v.class.label(),
+            if v.above { "ABOVE" } else { "below" },
+            im.threshold
+        );
+    }
+}
+
+/// One line: does any output's weighted leak pass the threshold, with the figure and its class.
+fn render_threshold_verdict(s: &mut String, r: &CheckReport) {
+    let above: Vec<String> = r
+        .outputs
+        .iter()
+        .flat_map(|o| {
+            o.impact.verdicts.iter().filter(|v| v.above).map(move |v| {
+                format!(
+                    "{}: {} {} ({})",
+                    o.name,
+                    v.figure.label(),
+                    fmt_abs(v.largest),
+                    v.class.label()
+                )
+            })
+        })
+        .collect();
+    let threshold = r.outputs.first().map_or(0.0, |o| o.impact.threshold);
+    if above.is_empty() {
+        let classes: Vec<&str> = r
+            .outputs
+            .iter()
+            .flat_map(|o| o.impact.verdicts.iter().map(|v| v.class.label()))
+            .fold(Vec::new(), |mut v, c| {
+                if !v.contains(&c) {
+                    v.push(c);
+                }
+                v
+            });
+        let _ = writeln!(
+            s,
+            "leaks that matter: none; every leak x background is at most {threshold} of the wanted signal ({})",
+            classes.join(", ")
+        );
+    } else {
+        let _ = writeln!(
+            s,
+            "leaks that matter: ABOVE the threshold {threshold} of the wanted signal in {}",
+            above.join("; ")
+        );
+    }
 }
 
 /// The verdict class of an output in words.

@@ -35,6 +35,13 @@ pub struct DesignArgs {
     /// Largest number of distinct phases any one field may take.
     #[arg(long, value_name = "N")]
     max_phases: Option<u32>,
+    /// Work limit of the search over weighted step sets on the grid (step sets through the
+    /// origin, over all levels; 0 skips it). Deterministic: no clock is involved.
+    #[arg(long, value_name = "STEP_SETS", default_value_t = pathsieve::design::DEFAULT_BEYOND_STEP_SETS)]
+    weighted_work: u64,
+    /// Largest step count the weighted search tries (at most 16).
+    #[arg(long, value_name = "K", default_value_t = pathsieve::design::weighted::MAX_BEYOND_STEPS)]
+    weighted_max_steps: usize,
     /// Write the cycle file here: a TOML cycle file for `.toml`, the plain table for `.csv`
     /// (both read by `pathsieve check`).
     #[arg(long, value_name = "CYCLE.toml|CYCLE.csv")]
@@ -60,6 +67,13 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     if a.max_steps == 0 {
         bail!("--max-steps must be at least 1");
     }
+    if a.weighted_max_steps > pathsieve::design::weighted::MAX_BEYOND_STEPS {
+        bail!(
+            "--weighted-max-steps {} is above the limit {}; use a smaller value",
+            a.weighted_max_steps,
+            pathsieve::design::weighted::MAX_BEYOND_STEPS
+        );
+    }
     // The output is checked before any work: kind, extension, not the input, --force.
     let out_format = match &a.out {
         Some(o) => {
@@ -82,7 +96,8 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     let req = DesignOptions {
         max_steps: a.max_steps,
         max_phases_per_field: a.max_phases,
-        ..DesignOptions::default()
+        beyond_step_sets: a.weighted_work,
+        beyond_max_steps: a.weighted_max_steps,
     };
     let bar = ProgressBar::with_draw_target(None, ProgressDrawTarget::hidden());
     bar.set_style(

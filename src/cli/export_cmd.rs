@@ -10,7 +10,7 @@ use pathsieve::experiment_file::read_experiment;
 use pathsieve::export::mask::{mask_set_npy, masks_for_cycle, write_mask_set_csv};
 use pathsieve::export::meta::{sha256_hex, sidecar_path, ExportMeta};
 use pathsieve::export::phase_formats::{
-    list_json, phases_csv, phases_npy, weights_csv, weights_npy,
+    exported_weights, list_json, phases_csv, phases_npy, weights_csv, weights_npy,
 };
 use pathsieve::export::phase_list::{ExportUnit, PhaseList};
 use pathsieve::export::shaper::parse_shaper;
@@ -194,6 +194,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         },
         source_steps: list.source_steps.clone(),
         notes,
+        weights: Vec::new(),
     };
     let unit_name = PhaseList::unit_name(unit, grid);
     let mut files: Vec<(PathBuf, Vec<u8>)> = Vec::new();
@@ -214,7 +215,8 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
                 name_of(&a.out),
                 if unit == ExportUnit::Index { "int64 grid indices" } else { "float64" }
             ));
-            let m = meta_for("phases", unit_name.clone(), n);
+            let mut m = meta_for("phases", unit_name.clone(), n);
+            m.weights = exported_weights(&list);
             files.push((a.out.clone(), phases_npy(&cells)?));
             files.push((sidecar_path(&a.out), m.json_bytes()));
         }
@@ -259,7 +261,8 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         }
         let is_npy = w.extension().is_some_and(|e| e.eq_ignore_ascii_case("npy"));
         if is_npy {
-            let m = meta_for("weights (complex128, steps x outputs)", unit_name, notes);
+            let mut m = meta_for("weights (complex128, steps x outputs)", unit_name, notes);
+            m.weights = exported_weights(&list);
             files.push((w.clone(), weights_npy(&list)?));
             files.push((sidecar_path(w), m.json_bytes()));
         } else {

@@ -247,16 +247,20 @@ pub fn weights_from_signature(steps: &[Vec<Phase>], t: &[i64]) -> Vec<Weight> {
         .collect()
 }
 
-/// Read a cycle table, choosing the format by extension (`.toml`, or `.csv`/`.tsv`/`.txt` for
-/// the plain table). `unit_override` supplies the phase unit when the file does not declare
+/// Read a cycle table, choosing the format by extension (`.toml`, `.csv`/`.tsv`/`.txt` for
+/// the plain table, `.json` for the tool's export, `.npy`/`.npz` for NumPy arrays). `unit_override` supplies the phase unit when the file does not declare
 /// one; a file that declares a different unit is refused rather than silently reinterpreted.
 pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle, InputError> {
-    let text = crate::input_text::read_text(path)?;
     let ext = path
         .extension()
         .and_then(|e| e.to_str())
         .unwrap_or("")
         .to_ascii_lowercase();
+    if matches!(ext.as_str(), "npy" | "npz") {
+        // NumPy arrays: the tool's own NPY export (with its sidecar) or an array numpy saved.
+        return crate::export::array_import::read_array_cycle(path, unit_override);
+    }
+    let text = crate::input_text::read_text(path)?;
     match ext.as_str() {
         "toml" => read_cycle_toml(&text, path, unit_override),
         "csv" | "tsv" | "txt" => read_cycle_csv(&text, path, unit_override),
@@ -266,7 +270,7 @@ pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle
             path,
             None,
             None,
-            format!("unknown cycle file extension `.{other}`; use .toml (cycle file), .csv (plain table) or .json (a pathsieve export)"),
+            format!("unknown cycle file extension `.{other}`; use .toml (cycle file), .csv (plain table), .json (a pathsieve export) or .npy/.npz (NumPy arrays)"),
         )),
     }
 }

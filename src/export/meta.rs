@@ -1,8 +1,10 @@
 //! Export metadata: this module owns the provenance every exported file carries (tool name and
 //! version, SHA-256 of the experiment file, grid, unit, step order, field and output names) and
 //! its three written forms: `# key: value` comment lines for CSV, a `meta` object for JSON and a
-//! sidecar `NAME.meta.json` for NPY, which has no metadata slot of its own.
+//! sidecar `NAME.meta.json` for NPY, which has no metadata slot of its own, and the one reader
+//! of that sidecar ([`read_sidecar`]).
 
+use crate::error::InputError;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
@@ -40,6 +42,20 @@ pub struct ExportMeta {
     pub source_steps: Vec<usize>,
     /// Free notes (drift moment, checker verdict, mask scale, ...).
     pub notes: Vec<String>,
+    /// The exact weight texts of every output, one per exported row (docs/cycle-format.md
+    /// weight form), for formats whose arrays hold only floats (the NPY sidecar): a re-import
+    /// then checks the weighted design exactly.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub weights: Vec<ExportedWeights>,
+}
+
+/// The exact weights of one output in an export.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct ExportedWeights {
+    /// The output's name.
+    pub name: String,
+    /// One exact weight text per exported row.
+    pub exact: Vec<String>,
 }
 
 impl ExportMeta {
@@ -93,22 +109,54 @@ impl ExportMeta {
     }
 }
 
+/// Parse sidecar metadata (`NAME.meta.json`) read from `path`; errors name the file, line and
+/// column. The one reader of sidecars: phase-list re-import and `check` both use it.
+///
+/// # Errors
+/// [`InputError`] for text that is not the metadata object.
+pub fn parse_sidecar(text: &str, path: &Path) -> Result<ExportMeta, InputError> {
+    serde_json::from_str(text).map_err(|e| {
+        InputError::new(
+            path,
+            Some(e.line()),
+            None,
+            format!(
+                "column {}: not the metadata pathsieve writes beside an NPY file ({e}); export the cycle again or remove the file",
+                e.column()
+            ),
+        )
+    })
+}
+
+/// The sidecar of an NPY or NPZ file, if one exists beside it: its path and metadata.
+///
+/// # Errors
+/// [`InputError`] for an unreadable or malformed sidecar.
+pub fn read_sidecar(data: &Path) -> Result<Option<(PathBuf, ExportMeta)>, InputError> {
+    let side = sidecar_path(data);
+    if !side.is_file() {
+        return Ok(None);
+    }
+    let text = crate::input_text::read_text(&side)?;
+    Ok(Some((side.clone(), parse_sidecar(&text, &side)?)))
+}
+
 /// Lower-case hex SHA-256 of some bytes.
 pub fn sha256_hex(bytes: &[u8]) -> String {
     let d = Sha256::digest(bytes);
     d.iter().map(|b| format!("{b:02x}")).collect()
 }
 
-/// The sidecar path of an NPY file: `x.npy` -> `x.meta.json` (any other name gets
+/// The sidecar path of an NPY (or NPZ) file: `x.npy` -> `x.meta.json` (any other name gets
 /// `.meta.json` appended).
 pub fn sidecar_path(npy: &Path) -> PathBuf {
     let name = npy
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
-    let stem = name
-        .strip_suffix(".npy")
-        .or_else(|| name.strip_suffix(".NPY"))
+    let stem = [".npy", ".NPY", ".npz", ".NPZ"]
+        .iter()
+        .find_map(|e| name.strip_suffix(e))
         .unwrap_or(&name);
     npy.with_file_name(format!("{stem}.meta.json"))
 }

@@ -1,9 +1,10 @@
 //! Export formats: this module owns turning computed results into file bytes, one small file
 //! per format. Each writer returns bytes; putting them on disk is [`crate::safe_write`]'s job.
 //! Phase lists: [`phase_list`] (model, units), [`phase_formats`] (CSV, JSON, NPY),
-//! [`phase_import`] (reading them back), [`step_order`] (drift-robust order), [`meta`]
+//! [`phase_import`] (reading them back), [`array_import`] (NumPy arrays as cycle tables), [`step_order`] (drift-robust order), [`meta`]
 //! (provenance); shaper masks: [`shaper`] (the shaper file) and [`mask`].
 
+pub mod array_import;
 pub mod mask;
 pub mod meta;
 pub mod npy;

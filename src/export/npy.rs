@@ -1,6 +1,7 @@
 //! NPY array files: this module owns the byte layout of NumPy's `.npy` format, writing version
-//! 1.0 files of little-endian `<f8`, `<c16` and `<i8` arrays in C order and reading them back
-//! (versions 1.0 and 2.0). The layout follows the format description in the NumPy
+//! 1.0 files of little-endian `<f8`, `<c16` and `<i8` arrays in C order and reading arrays as
+//! NumPy writes them (versions 1.0 and 2.0; float32/64, int32/64, complex64/128 in either byte
+//! order; C or Fortran order). The layout follows the format description in the NumPy
 //! documentation (`numpy.lib.format`; NumPy Enhancement Proposal 1, "A simple file format for
 //! NumPy arrays", R. Kern, 2007, author and year from memory): the magic string `\x93NUMPY`,
 //! two version bytes, a little-endian header length (u16 in 1.0, u32 in 2.0), then an ASCII
@@ -66,17 +67,12 @@ pub enum NpyError {
         /// What is wrong with it.
         reason: String,
     },
-    /// A dtype other than `<f8`, `<c16`, `<i8`.
-    #[error("NPY dtype {descr:?} is not supported; use '<f8', '<c16' or '<i8'")]
+    /// A dtype other than float32/64, int32/64, complex64/128.
+    #[error("NPY dtype {descr:?} is not supported; save float64, float32, int64, int32, complex128 or complex64 (e.g. a.astype(np.float64))")]
     UnsupportedDtype {
         /// The `descr` found.
         descr: String,
     },
-    /// A Fortran-ordered array.
-    #[error(
-        "Fortran-ordered NPY arrays are not supported; save with C order (np.ascontiguousarray)"
-    )]
-    FortranOrder,
     /// The data section has the wrong length.
     #[error("NPY data section has {found} bytes but shape {shape:?} of {descr} needs {expected}")]
     DataLength {
@@ -94,11 +90,11 @@ pub enum NpyError {
 /// The element data of an NPY array.
 #[derive(Debug, Clone, PartialEq)]
 pub enum NpyData {
-    /// `<f8`: little-endian IEEE 754 doubles.
+    /// `f8` or `f4` (either byte order): IEEE 754 values, widened exactly to f64.
     F64(Vec<f64>),
-    /// `<c16`: pairs of little-endian doubles (real, imaginary).
+    /// `c16` or `c8`: (real, imaginary) pairs, widened exactly to f64.
     C128(Vec<Complex64>),
-    /// `<i8`: little-endian signed 64-bit integers.
+    /// `i8` or `i4`: signed integers, widened to i64.
     I64(Vec<i64>),
 }
 
@@ -109,6 +105,10 @@ pub struct NpyArray {
     pub shape: Vec<usize>,
     /// The elements, row-major.
     pub data: NpyData,
+    /// The dtype as the file declared it, e.g. `>f4`.
+    pub descr: &'static str,
+    /// True when the file stored the elements in Fortran (column-major) order.
+    pub fortran_order: bool,
 }
 
 /// Number of elements of `shape`, or `None` on overflow.
@@ -368,7 +368,61 @@ fn take<'b>(
         })
 }
 
-/// Parse NPY bytes (format 1.0 or 2.0, C order, dtype `<f8`, `<c16` or `<i8`).
+/// Element kinds the reader accepts.
+#[derive(Clone, Copy)]
+enum Kind {
+    Float,
+    Int,
+    Complex,
+}
+
+/// Every dtype read: `descr`, kind, bytes per element. Floats (`f4`, `f8`) are read as f64
+/// (exactly: every f32 is an f64), integers (`i4`, `i8`) as i64, complex (`c8`, `c16`) as
+/// pairs of f64; either byte order.
+const DTYPES: [(&str, Kind, usize); 12] = [
+    ("<f8", Kind::Float, 8),
+    (">f8", Kind::Float, 8),
+    ("<f4", Kind::Float, 4),
+    (">f4", Kind::Float, 4),
+    ("<i8", Kind::Int, 8),
+    (">i8", Kind::Int, 8),
+    ("<i4", Kind::Int, 4),
+    (">i4", Kind::Int, 4),
+    ("<c16", Kind::Complex, 16),
+    (">c16", Kind::Complex, 16),
+    ("<c8", Kind::Complex, 8),
+    (">c8", Kind::Complex, 8),
+];
+
+/// Elements stored in Fortran (column-major) order for `shape`, returned in C (row-major)
+/// order; `shape` empty means already in C order.
+fn c_order<T: Clone>(v: Vec<T>, shape: &[usize]) -> Vec<T> {
+    if shape.len() < 2 {
+        return v;
+    }
+    // Fortran stride of dimension k: the product of the extents before it.
+    let mut stride = vec![1usize; shape.len()];
+    for k in 1..shape.len() {
+        stride[k] = stride[k - 1] * shape[k - 1];
+    }
+    let mut idx = vec![0usize; shape.len()];
+    let mut out = Vec::with_capacity(v.len());
+    for _ in 0..v.len() {
+        let off: usize = idx.iter().zip(&stride).map(|(i, s)| i * s).sum();
+        out.push(v[off].clone());
+        for k in (0..shape.len()).rev() {
+            idx[k] += 1;
+            if idx[k] < shape[k] {
+                break;
+            }
+            idx[k] = 0;
+        }
+    }
+    out
+}
+
+/// Parse NPY bytes (format 1.0 or 2.0, C or Fortran order, dtype `f8`, `f4`, `i8`, `i4`,
+/// `c16` or `c8` in either byte order), returning the elements in C order.
 ///
 /// # Errors
 /// A [`NpyError`] describing the first problem found; the function never panics.
@@ -432,16 +486,9 @@ pub fn read_npy(bytes: &[u8]) -> Result<NpyArray, NpyError> {
     let descr = descr.ok_or_else(|| missing("descr"))?;
     let fortran = fortran.ok_or_else(|| missing("fortran_order"))?;
     let shape = shape.ok_or_else(|| missing("shape"))?;
-    let (name, size): (&'static str, usize) = match descr.as_str() {
-        "<f8" => ("<f8", 8),
-        "<c16" => ("<c16", 16),
-        "<i8" => ("<i8", 8),
-        _ => return Err(NpyError::UnsupportedDtype { descr }),
+    let Some(&(name, kind, size)) = DTYPES.iter().find(|d| d.0 == descr) else {
+        return Err(NpyError::UnsupportedDtype { descr });
     };
-    // A 0- or 1-dimensional array reads the same in either order, as in NumPy.
-    if fortran && shape.iter().filter(|&&d| d > 1).count() > 1 {
-        return Err(NpyError::FortranOrder);
-    }
     let data = &bytes[hstart + hlen..];
     let expected = element_count(&shape).and_then(|n| n.checked_mul(size));
     if expected != Some(data.len()) {
@@ -452,21 +499,46 @@ pub fn read_npy(bytes: &[u8]) -> Result<NpyArray, NpyError> {
             found: data.len(),
         });
     }
-    let f = |c: &[u8]| f64::from_le_bytes(c.try_into().unwrap_or([0; 8]));
-    let data = match name {
-        "<f8" => NpyData::F64(data.chunks_exact(8).map(f).collect()),
-        "<c16" => NpyData::C128(
-            data.chunks_exact(16)
-                .map(|c| Complex64::new(f(&c[..8]), f(&c[8..])))
-                .collect(),
-        ),
-        _ => NpyData::I64(
-            data.chunks_exact(8)
-                .map(|c| i64::from_le_bytes(c.try_into().unwrap_or([0; 8])))
-                .collect(),
-        ),
+    let big = name.starts_with('>');
+    let real = |c: &[u8]| -> f64 {
+        let mut b = [0u8; 8];
+        b[..c.len()].copy_from_slice(c);
+        match (c.len(), big) {
+            (4, false) => f64::from(f32::from_le_bytes([b[0], b[1], b[2], b[3]])),
+            (4, true) => f64::from(f32::from_be_bytes([b[0], b[1], b[2], b[3]])),
+            (_, false) => f64::from_le_bytes(b),
+            (_, true) => f64::from_be_bytes(b),
+        }
     };
-    Ok(NpyArray { shape, data })
+    let int = |c: &[u8]| -> i64 {
+        let mut b = [0u8; 8];
+        b[..c.len()].copy_from_slice(c);
+        match (c.len(), big) {
+            (4, false) => i64::from(i32::from_le_bytes([b[0], b[1], b[2], b[3]])),
+            (4, true) => i64::from(i32::from_be_bytes([b[0], b[1], b[2], b[3]])),
+            (_, false) => i64::from_le_bytes(b),
+            (_, true) => i64::from_be_bytes(b),
+        }
+    };
+    // A 0- or 1-dimensional array reads the same in either order, as in NumPy.
+    let fortran = fortran && shape.iter().filter(|&&d| d > 1).count() > 1;
+    let dims: &[usize] = if fortran { &shape } else { &[] };
+    let data = match kind {
+        Kind::Float => NpyData::F64(c_order(data.chunks_exact(size).map(real).collect(), dims)),
+        Kind::Complex => NpyData::C128(c_order(
+            data.chunks_exact(size)
+                .map(|c| Complex64::new(real(&c[..size / 2]), real(&c[size / 2..])))
+                .collect(),
+            dims,
+        )),
+        Kind::Int => NpyData::I64(c_order(data.chunks_exact(size).map(int).collect(), dims)),
+    };
+    Ok(NpyArray {
+        shape,
+        data,
+        descr: name,
+        fortran_order: fortran,
+    })
 }
 
 #[cfg(test)]

@@ -140,16 +140,9 @@ fn rejects_malformed_files_with_clear_errors() {
         (raw((3, 0), ok, &one), "version 3.0"),
         (raw((1, 0), ok, &one[..7]), "data section"),
         (raw((1, 0), ok, &[one, one].concat()), "data section"),
-        (raw((1, 0), &ok.replace("<f8", ">f8"), &one), "dtype"),
-        (raw((1, 0), &ok.replace("<f8", "<f4"), &one), "dtype"),
-        (
-            raw(
-                (1, 0),
-                &ok.replace("(1,)", "(2, 2)").replace("False", "True"),
-                &[0; 32],
-            ),
-            "Fortran",
-        ),
+        (raw((1, 0), &ok.replace("<f8", "<u2"), &one), "dtype"),
+        (raw((1, 0), &ok.replace("<f8", "|b1"), &one), "dtype"),
+        (raw((1, 0), &ok.replace("<f8", "<f4"), &one), "data section"),
         (raw((1, 0), &ok.replace("(1,)", "(1)"), &one), "'(n,)'"),
         (raw((1, 0), &ok.replace("(1,)", "(-1,)"), &one), "integer"),
         (
@@ -224,4 +217,43 @@ proptest! {
         prop_assert_eq!(a.shape, vec![rows, cols]);
         prop_assert_eq!(a.data, NpyData::I64(v));
     }
+}
+
+// Byte orders and widths as NumPy writes them (format description in the NumPy documentation,
+// `numpy.lib.format`; NEP 1, R. Kern, 2007, from memory): '>' is big-endian, 'f4'/'i4' are
+// 4-byte IEEE single / two's-complement integers; Fortran order lists the first index fastest.
+#[test]
+fn big_endian_narrow_and_fortran_arrays_read_in_c_order() {
+    let h = |descr: &str, shape: &str, fortran: &str| {
+        format!("{{'descr': '{descr}', 'fortran_order': {fortran}, 'shape': {shape}, }}\n")
+    };
+    let be: Vec<u8> = [1.5f64, -2.0]
+        .iter()
+        .flat_map(|x| x.to_be_bytes())
+        .collect();
+    let a = read_npy(&raw((1, 0), &h(">f8", "(2,)", "False"), &be)).unwrap();
+    assert_eq!(a.data, NpyData::F64(vec![1.5, -2.0]));
+    let f4: Vec<u8> = [0.25f32, 120.0]
+        .iter()
+        .flat_map(|x| x.to_le_bytes())
+        .collect();
+    let a = read_npy(&raw((1, 0), &h("<f4", "(2,)", "False"), &f4)).unwrap();
+    assert_eq!(a.data, NpyData::F64(vec![0.25, 120.0]));
+    let i4: Vec<u8> = [-7i32, 3].iter().flat_map(|x| x.to_be_bytes()).collect();
+    let a = read_npy(&raw((1, 0), &h(">i4", "(2,)", "False"), &i4)).unwrap();
+    assert_eq!(a.data, NpyData::I64(vec![-7, 3]));
+    // [[0, 1, 2], [3, 4, 5]] stored column-major: 0, 3, 1, 4, 2, 5.
+    let col: Vec<u8> = [0i64, 3, 1, 4, 2, 5]
+        .iter()
+        .flat_map(|x| x.to_le_bytes())
+        .collect();
+    let a = read_npy(&raw((1, 0), &h("<i8", "(2, 3)", "True"), &col)).unwrap();
+    assert_eq!(a.shape, vec![2, 3]);
+    assert_eq!(a.data, NpyData::I64(vec![0, 1, 2, 3, 4, 5]));
+    let c8: Vec<u8> = [1.0f32, -0.5]
+        .iter()
+        .flat_map(|x| x.to_le_bytes())
+        .collect();
+    let a = read_npy(&raw((1, 0), &h("<c8", "(1,)", "False"), &c8)).unwrap();
+    assert_eq!(a.data, NpyData::C128(vec![Complex64::new(1.0, -0.5)]));
 }

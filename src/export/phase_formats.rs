@@ -170,6 +170,18 @@ pub fn phases_npy(cells: &[Vec<Cell>]) -> Result<Vec<u8>, NpyError> {
     }
 }
 
+/// The exact weight texts of every output, for the NPY sidecar (arrays hold only floats).
+pub fn exported_weights(list: &PhaseList) -> Vec<super::meta::ExportedWeights> {
+    list.outputs
+        .iter()
+        .enumerate()
+        .map(|(o, name)| super::meta::ExportedWeights {
+            name: name.clone(),
+            exact: list.weight_texts.iter().map(|t| t[o].clone()).collect(),
+        })
+        .collect()
+}
+
 /// Weights as NPY: complex128, shape (N, outputs).
 ///
 /// # Errors

@@ -17,7 +17,9 @@ use std::path::Path;
 /// Distance (in grid steps) within which a float phase is taken as the grid point.
 const SNAP: f64 = 1e-9;
 
-fn to_phase(value: f64, unit: PhaseUnit, grid: Option<u64>) -> Phase {
+/// A float phase in `unit` as turns: exact on a grid index or within 1e-9 of a point of
+/// `grid`, approximate otherwise.
+pub(crate) fn to_phase(value: f64, unit: PhaseUnit, grid: Option<u64>) -> Phase {
     let turns = match unit {
         PhaseUnit::Turns => value,
         PhaseUnit::Degrees => value / 360.0,
@@ -290,13 +292,15 @@ pub fn read_phase_list_file(path: &Path) -> Result<(Cycle, ExportMeta), InputErr
             Ok((cycle, meta))
         }
         "npy" => {
-            let side = super::meta::sidecar_path(path);
-            let meta_text = crate::input_text::read_text(&side)?;
+            let Some((_, meta)) = super::meta::read_sidecar(path)? else {
+                return Err(bad(format!(
+                    "no metadata sidecar {} beside it; export the cycle again (NPY exports write one)",
+                    super::meta::sidecar_path(path).display()
+                )));
+            };
             let bytes = crate::input_text::read_bytes(path)?;
-            let cycle = read_phase_list_npy(&bytes, &meta_text, None, path)?;
-            let meta: ExportMeta = serde_json::from_str(&meta_text)
-                .map_err(|e| bad(format!("bad sidecar metadata: {e}")))?;
-            Ok((cycle, meta))
+            let a = read_npy(&bytes).map_err(|e| bad(e.to_string()))?;
+            Ok((cycle_of_arrays(&meta, a, None, path)?, meta))
         }
         other => Err(bad(format!(
             "unknown phase-list extension `.{other}`; give the .csv, .json or .npy file `pathsieve export` wrote"
@@ -316,35 +320,55 @@ pub fn read_phase_list_npy(
     path: &Path,
 ) -> Result<Cycle, InputError> {
     let bad = |m: String| InputError::new(path, None, None, m);
-    let meta: ExportMeta =
-        serde_json::from_str(meta_json).map_err(|e| bad(format!("bad sidecar metadata: {e}")))?;
+    let meta = super::meta::parse_sidecar(meta_json, path)?;
     let a = read_npy(phases).map_err(|e| bad(e.to_string()))?;
-    let (n, f) = match a.shape[..] {
-        [n, f] => (n, f),
-        _ => {
-            return Err(bad(format!(
-                "phases have shape {:?}; expected (steps, fields)",
-                a.shape
-            )))
-        }
-    };
-    if f != meta.fields.len() {
-        return Err(bad(format!(
-            "{f} phase columns but {} fields in the metadata",
-            meta.fields.len()
-        )));
-    }
-    let flat: Vec<f64> = match a.data {
-        NpyData::F64(v) => v,
-        NpyData::I64(v) => v.into_iter().map(|k| k as f64).collect(),
-        NpyData::C128(_) => return Err(bad("phases must be float64 or int64, not complex".into())),
-    };
-    let rows: Vec<Vec<f64>> = flat.chunks(f.max(1)).map(<[f64]>::to_vec).take(n).collect();
+    let w = weights
+        .map(|w| read_npy(w).map_err(|e| bad(e.to_string())))
+        .transpose()?;
+    cycle_of_arrays(&meta, a, w, path)
+}
+
+/// A cycle from a phase array (steps x fields, or one field as a vector) and its metadata; the
+/// weights from the metadata's exact texts when present, else from a complex weight array
+/// (steps x outputs, approximate).
+///
+/// # Errors
+/// [`InputError`] for shapes or dtypes that do not fit the metadata.
+pub fn cycle_of_arrays(
+    meta: &ExportMeta,
+    a: super::npy::NpyArray,
+    weights: Option<super::npy::NpyArray>,
+    path: &Path,
+) -> Result<Cycle, InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
+    let f = meta.fields.len();
+    let (n, rows) = phase_rows(a, f, path)?;
     let mut outputs = Vec::new();
-    if let Some(w) = weights {
-        let b = read_npy(w).map_err(|e| bad(e.to_string()))?;
+    if !meta.weights.is_empty() {
+        for ew in &meta.weights {
+            if ew.exact.len() != n {
+                return Err(bad(format!(
+                    "the metadata holds {} weights of output `{}` for {n} steps; export the cycle again",
+                    ew.exact.len(),
+                    ew.name
+                )));
+            }
+            let weights: Result<Vec<Weight>, _> = ew
+                .exact
+                .iter()
+                .map(|t| {
+                    parse_weight_cell(t).map_err(|m| bad(format!("output `{}`: {m}", ew.name)))
+                })
+                .collect();
+            outputs.push(CycleOutput {
+                name: ew.name.clone(),
+                weights: weights?,
+                source: WeightSource::Explicit,
+            });
+        }
+    } else if let Some(b) = weights {
         let NpyData::C128(v) = b.data else {
-            return Err(bad("weights must be complex128".into()));
+            return Err(bad("weights must be complex (complex128)".into()));
         };
         let k = meta.outputs.len();
         if b.shape != [n, k] {
@@ -361,5 +385,42 @@ pub fn read_phase_list_npy(
             });
         }
     }
-    cycle_of(&meta, rows, outputs, path)
+    cycle_of(meta, rows, outputs, path)
+}
+
+/// The rows of a real phase array with `f` columns (a vector is one column).
+fn phase_rows(
+    a: super::npy::NpyArray,
+    f: usize,
+    path: &Path,
+) -> Result<(usize, Vec<Vec<f64>>), InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
+    let (n, cols) = match a.shape[..] {
+        [n, c] => (n, c),
+        [n] => (n, 1),
+        _ => {
+            return Err(bad(format!(
+                "phases have shape {:?}; expected (steps, fields)",
+                a.shape
+            )))
+        }
+    };
+    if cols != f {
+        return Err(bad(format!(
+            "{cols} phase columns but {f} fields in the metadata"
+        )));
+    }
+    let flat: Vec<f64> = match a.data {
+        NpyData::F64(v) => v,
+        NpyData::I64(v) => v.into_iter().map(|k| k as f64).collect(),
+        NpyData::C128(_) => {
+            return Err(bad(
+                "phases must be real (float or integer), not complex".into()
+            ))
+        }
+    };
+    Ok((
+        n,
+        flat.chunks(f.max(1)).map(<[f64]>::to_vec).take(n).collect(),
+    ))
 }

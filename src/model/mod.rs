@@ -2,9 +2,11 @@
 //! perturbative order and the wanted signals. Built from a file by [`crate::experiment_file`]
 //! and validated there; everything downstream takes it as correct.
 
+pub mod backgrounds;
 mod levels;
 mod overlap;
 
+pub use backgrounds::Backgrounds;
 pub use levels::{LevelScheme, State, Transition};
 pub use overlap::Overlap;
 
@@ -198,6 +200,9 @@ pub struct Experiment {
     pub swap_rnr_labels: bool,
     /// The wanted signals (outputs).
     pub wanted: Vec<WantedSignal>,
+    /// Sizes of the rejected terms relative to the wanted signal (`[backgrounds]`), for
+    /// ranking leaks by how much they matter.
+    pub backgrounds: Backgrounds,
 }
 
 impl Experiment {

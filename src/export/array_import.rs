@@ -1,0 +1,201 @@
+//! NumPy arrays as cycle tables for `pathsieve check`, so the file the acquisition software
+//! loads is the file that is checked: an `.npy` array, or an `.npz` archive with a `phases`
+//! member (or a single member) and optionally a complex `weights` member. With the sidecar
+//! `NAME.meta.json` that `pathsieve export` writes, fields, unit, grid and the exact weights
+//! come from it; without one (an array as numpy saved it) the unit must be given and the
+//! columns are the experiment's cycled fields in order (assigned when the cycle is bound).
+//! Float phases carry no decimal precision: the checker snaps them within its snapping
+//! tolerance, as it does `~` cells; integer phases are exact.
+
+use super::meta::read_sidecar;
+use super::npy::{read_npy, NpyArray, NpyData};
+use super::npz::read_npz;
+use super::phase_import::{cycle_of_arrays, to_phase};
+use crate::cycle::{Cycle, CycleMeta, Phase, WrittenForm};
+use crate::error::InputError;
+use crate::exact::{reduce_turn, PhaseUnit, Turns};
+use std::path::Path;
+
+/// Read an `.npy` or `.npz` file as a cycle (see the module notes).
+///
+/// # Errors
+/// [`InputError`] naming the file and the fix: malformed arrays, a missing unit, shapes that
+/// do not fit, weights without the names of their outputs.
+pub fn read_array_cycle(
+    path: &Path,
+    unit_override: Option<PhaseUnit>,
+) -> Result<Cycle, InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
+    let bytes = crate::input_text::read_bytes(path)?;
+    let is_npz = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("npz"));
+    let (phases, weights) = if is_npz {
+        npz_members(&bytes, path)?
+    } else {
+        (read_npy(&bytes).map_err(|e| bad(e.to_string()))?, None)
+    };
+    let layout = describe(&phases);
+    match read_sidecar(path)? {
+        Some((side, meta)) => {
+            if unit_override
+                .is_some_and(|u| Some(u) != crate::cycle::text::parse_unit(&meta.unit).ok())
+            {
+                return Err(bad(format!(
+                    "--unit differs from the unit `{}` in {}; drop --unit",
+                    meta.unit,
+                    side.display()
+                )));
+            }
+            let mut c = cycle_of_arrays(&meta, phases, weights, path)?;
+            c.meta.written = Some(WrittenForm {
+                dialect: Some(format!(
+                    "{layout}, fields, unit and weights from {}",
+                    side.display()
+                )),
+                ..WrittenForm::default()
+            });
+            Ok(c)
+        }
+        None => bare(phases, weights.is_some(), unit_override, &layout, path),
+    }
+}
+
+/// The `phases` and `weights` members of an archive (`phases` may be the only member).
+fn npz_members(bytes: &[u8], path: &Path) -> Result<(NpyArray, Option<NpyArray>), InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
+    let members = read_npz(bytes).map_err(&bad)?;
+    let names: Vec<String> = members.iter().map(|m| m.0.clone()).collect();
+    let mut phases = None;
+    let mut weights = None;
+    let single = members.len() == 1;
+    for (name, a) in members {
+        match name.as_str() {
+            "weights" => weights = Some(a),
+            "phases" => phases = Some(a),
+            _ if single => phases = Some(a),
+            _ => {}
+        }
+    }
+    let phases = phases.ok_or_else(|| {
+        bad(format!(
+            "the archive holds {} but no `phases` member; save it as np.savez(NAME, phases=..., weights=...)",
+            names.join(", ")
+        ))
+    })?;
+    Ok((phases, weights))
+}
+
+/// The array's layout in words, for the report.
+fn describe(a: &NpyArray) -> String {
+    let kind = match a.descr.trim_start_matches(['<', '>']) {
+        "f8" => "float64",
+        "f4" => "float32",
+        "i8" => "int64",
+        "i4" => "int32",
+        "c16" => "complex128",
+        _ => "complex64",
+    };
+    format!(
+        "NumPy array {} ({kind}, {}, {}), shape {:?}",
+        a.descr,
+        if a.descr.starts_with('>') {
+            "big-endian"
+        } else {
+            "little-endian"
+        },
+        if a.fortran_order {
+            "Fortran order"
+        } else {
+            "C order"
+        },
+        a.shape
+    )
+}
+
+/// An array as numpy saved it, without metadata: phases in the given unit, field names left
+/// empty for the binder to assign.
+fn bare(
+    a: NpyArray,
+    has_weights: bool,
+    unit: Option<PhaseUnit>,
+    layout: &str,
+    path: &Path,
+) -> Result<Cycle, InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
+    let side = super::meta::sidecar_path(path);
+    let Some(unit) = unit else {
+        return Err(bad(format!(
+            "a NumPy array without its sidecar {} does not say its phase unit; pass --unit turns, degrees, radians or grid:M",
+            side.display()
+        )));
+    };
+    if has_weights {
+        return Err(bad(format!(
+            "the archive's `weights` member needs the names of its outputs, which only the sidecar {} gives; export the cycle with pathsieve, or save only the phases (weights are then derived from the wanted signals)",
+            side.display()
+        )));
+    }
+    let cols = match a.shape[..] {
+        [_, c] => c,
+        [_] => 1,
+        _ => {
+            return Err(bad(format!(
+                "phases have shape {:?}; save a (steps, fields) array",
+                a.shape
+            )))
+        }
+    };
+    let steps: Vec<Vec<Phase>> = match a.data {
+        NpyData::I64(v) => v
+            .chunks(cols.max(1))
+            .map(|r| r.iter().map(|&k| int_phase(k, unit)).collect())
+            .collect(),
+        NpyData::F64(v) => v
+            .chunks(cols.max(1))
+            .map(|r| r.iter().map(|&x| to_phase(x, unit, None)).collect())
+            .collect(),
+        NpyData::C128(_) => {
+            return Err(bad(
+                "phases must be real (float or integer), not complex".into()
+            ))
+        }
+    };
+    if let Some((m, j)) = steps.iter().enumerate().find_map(|(m, r)| {
+        r.iter()
+            .position(|p| !p.turns_f64().is_finite())
+            .map(|j| (m, j))
+    }) {
+        return Err(bad(format!(
+            "row {}, column {}: not a finite number; every phase must be a number",
+            m + 1,
+            j + 1
+        )));
+    }
+    Ok(Cycle {
+        fields: Vec::new(),
+        steps,
+        outputs: Vec::new(),
+        meta: CycleMeta {
+            written: Some(WrittenForm {
+                dialect: Some(format!(
+                    "{layout} without a sidecar, phases in {}",
+                    crate::cycle::text::unit_name(unit)
+                )),
+                ..WrittenForm::default()
+            }),
+            ..CycleMeta::default()
+        },
+    })
+}
+
+/// An integer phase: exact in turns, degrees and grid steps; radians are not rational turns.
+fn int_phase(k: i64, unit: PhaseUnit) -> Phase {
+    let exact = |d: i64| Phase::Exact(reduce_turn(Turns::new(k, d)));
+    match unit {
+        PhaseUnit::Turns => exact(1),
+        PhaseUnit::Degrees => exact(360),
+        PhaseUnit::GridIndex(m) => exact(i64::from(m)),
+        PhaseUnit::Radians => Phase::Approx(k as f64 / std::f64::consts::TAU),
+    }
+}
