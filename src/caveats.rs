@@ -44,7 +44,7 @@ pub fn caveats(exp: &Experiment, outputs: &[ResolvedSignal]) -> Vec<String> {
     }
     if !outputs.is_empty() && !matches!(exp.detection, Detection::Nmr { .. }) {
         out.push(format!(
-            "higher orders with the same signature (order {} and up) pass with the wanted signals; separate them by their intensity dependence",
+            "terms of order {} and up that carry a kept signature itself (the wanted pathways with extra interaction pairs) pass with the wanted signals whatever order the cycle cancels through; separate them by their intensity dependence",
             exp.order + 2
         ));
     }

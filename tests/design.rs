@@ -216,24 +216,114 @@ fn a_weighted_step_set_beats_every_lattice_when_only_the_two_quantum_pump_term_m
     assert!(summary.minimal_on_grid);
     assert!((d.noise_efficiency - 1.0).abs() < 1e-12);
     let cycle = weighted_cycle(&e, &prep, &d, Default::default());
-    let f = |b: i64| -> num_complex::Complex64 {
-        cycle
-            .steps
-            .iter()
-            .zip(&cycle.outputs[0].weights)
-            .map(|(s, w)| {
-                w.to_complex()
-                    * num_complex::Complex64::from_polar(
-                        1.0,
-                        2.0 * std::f64::consts::PI * b as f64 * s[0].turns_f64(),
-                    )
-            })
-            .sum()
-    };
+    let f = |b: i64| one_field_filter(&cycle, b);
     assert!((f(0) - 1.0).norm() < 1e-12);
     assert!(f(2).norm() < 1e-12 && f(-2).norm() < 1e-12);
     assert!(
         (summary.noise_efficiency.unwrap() - 1.0).abs() < 1e-12,
         "equal weights 1/2: efficiency 1"
     );
+}
+
+#[test]
+fn with_no_lattice_design_within_the_limits_the_designer_tries_weighted_step_sets() {
+    // domain.md section 6 again: cancel b = +-2, keep b = 0 on one field, grid 4. Every
+    // lattice design needs 4 steps, so under --max-steps 3 the lattice class is refused; the
+    // weighted class then gives the 2-step set {0, 1/4 turn} with weights (1/2, 1/2).
+    use pathsieve::design::lattice_stage::{lattice_search, LatticeStage};
+    use pathsieve::design::weighted_stage::weighted_without_lattice;
+    use pathsieve::design::Refusal;
+    let e = read_experiment(&common::scheme("single-pump-probe.toml")).unwrap();
+    let req = SelectionRequest {
+        grid: Some(vec![4]),
+        ..SelectionRequest::default()
+    };
+    let sel = Selection::new(&e, &req).unwrap();
+    let opts = DesignOptions {
+        max_steps: 3,
+        ..DesignOptions::default()
+    };
+    let mut prep = prepare(&sel, &opts).unwrap();
+    prep.problem.rejected = vec![vec![2], vec![-2]];
+    prep.problem.max_steps = 3;
+    let cancel = AtomicBool::new(false);
+    let ctl = SearchControl::new(&cancel);
+    match lattice_search(&prep, &opts, &ctl).unwrap() {
+        LatticeStage::Refused { refusal, .. } => {
+            assert!(matches!(refusal, Refusal::NoLatticeDesign { .. }))
+        }
+        LatticeStage::Found(f) => panic!("a {}-step lattice design", f.design.steps),
+    }
+    let mut report = DesignReport::new(&sel, &prep);
+    report.refusal = Some(Refusal::NoLatticeDesign {
+        remedy: pathsieve::design::LimitRemedy::MaxSteps { current: 3 },
+    });
+    let cycle = weighted_without_lattice(&sel, &prep, &opts, &ctl, &mut report).expect("a design");
+    assert_eq!(cycle.steps.len(), 2);
+    assert_eq!(report.steps, Some(2));
+    assert!(report.refusal.is_none() && report.lattice_refusal.is_some());
+    assert!(report.beyond.as_ref().unwrap().minimal_on_grid);
+    let f = |b: i64| one_field_filter(&cycle, b);
+    assert!((f(0) - 1.0).norm() < 1e-12);
+    assert!(f(2).norm() < 1e-12 && f(-2).norm() < 1e-12);
+    let text = pathsieve::render::design_summary::summary(&report);
+    assert!(
+        text.contains("no lattice design exists within the limits"),
+        "{text}"
+    );
+}
+
+#[test]
+fn a_lattice_refusal_says_how_far_the_weighted_class_was_searched() {
+    // One cycled field (the pump) on a 3-step grid must cancel b = +1 and -1 and keep 0. Two
+    // steps cannot: w0 + w1 z = 0 and w0 + w1 / z = 0 with z = exp(2 pi i k / 3), k != 0,
+    // force w1 (z - 1/z) = 0, so w1 = w0 = 0 (direct computation, common practice). Under
+    // --max-steps 2 both the lattice and the weighted class are refused, the latter
+    // exhaustively through 2 steps.
+    let e = read_experiment(&common::scheme("single-pump-probe.toml")).unwrap();
+    let req = SelectionRequest {
+        grid: Some(vec![3]),
+        ..SelectionRequest::default()
+    };
+    let opts = DesignOptions {
+        max_steps: 2,
+        ..DesignOptions::default()
+    };
+    let sel = Selection::new(&e, &req).unwrap();
+    let rejected = prepare(&sel, &opts).unwrap().problem.rejected;
+    assert!(rejected.contains(&vec![1]) && rejected.contains(&vec![-1]));
+    let r = run_with(&e, &req, &opts);
+    assert!(r.cycle.is_none());
+    assert!(matches!(
+        r.refusal,
+        Some(pathsieve::design::Refusal::NoLatticeDesign { .. })
+    ));
+    let b = r.beyond.as_ref().expect("the weighted class was searched");
+    assert_eq!(b.exhaustive_up_to, 2);
+    assert_eq!(b.found_steps, None);
+    let text = pathsieve::render::design_summary::summary(&r);
+    assert!(
+        text.contains("Weighted step sets (the wider class): no step set on the grid [3] with at most 2 steps works"),
+        "{text}"
+    );
+    // With a third step allowed, the 3-step cycle appears (all grid points).
+    let r3 = run_with(&e, &req, &DesignOptions::default());
+    assert_eq!(r3.steps, Some(3));
+}
+
+/// F(b) of a one-field cycle's first output, in floating point (an independent evaluation of
+/// sum_m w_m exp(2 pi i b phi_m), domain.md section 3).
+fn one_field_filter(cycle: &pathsieve::cycle::Cycle, b: i64) -> num_complex::Complex64 {
+    cycle
+        .steps
+        .iter()
+        .zip(&cycle.outputs[0].weights)
+        .map(|(s, w)| {
+            w.to_complex()
+                * num_complex::Complex64::from_polar(
+                    1.0,
+                    2.0 * std::f64::consts::PI * b as f64 * s[0].turns_f64(),
+                )
+        })
+        .sum()
 }

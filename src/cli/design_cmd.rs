@@ -36,6 +36,13 @@ pub struct DesignArgs {
     /// Largest number of distinct phases any one field may take.
     #[arg(long, value_name = "N")]
     max_phases: Option<u32>,
+    /// Work limit of the search over weighted step sets on the grid (step sets through the
+    /// origin, over all levels; 0 skips it). Deterministic: no clock is involved.
+    #[arg(long, value_name = "STEP_SETS", default_value_t = pathsieve::design::DEFAULT_BEYOND_STEP_SETS)]
+    weighted_work: u64,
+    /// Largest step count the weighted search tries (at most 16).
+    #[arg(long, value_name = "K", default_value_t = pathsieve::design::weighted::MAX_BEYOND_STEPS)]
+    weighted_max_steps: usize,
     /// Write the cycle file (TOML, read by `pathsieve check`) here.
     #[arg(long, value_name = "CYCLE.toml")]
     out: Option<PathBuf>,
@@ -61,6 +68,13 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     if a.max_steps == 0 {
         bail!("--max-steps must be at least 1");
     }
+    if a.weighted_max_steps > pathsieve::design::weighted::MAX_BEYOND_STEPS {
+        bail!(
+            "--weighted-max-steps {} is above the limit {}; use a smaller value",
+            a.weighted_max_steps,
+            pathsieve::design::weighted::MAX_BEYOND_STEPS
+        );
+    }
     if let Some(o) = &a.out {
         if o.exists() && !a.force {
             bail!("{} exists; use --force to overwrite", o.display());
@@ -78,7 +92,8 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     let req = DesignOptions {
         max_steps: a.max_steps,
         max_phases_per_field: a.max_phases,
-        ..DesignOptions::default()
+        beyond_step_sets: a.weighted_work,
+        beyond_max_steps: a.weighted_max_steps,
     };
     let _ = ctrlc::set_handler(|| CANCEL.store(true, Ordering::SeqCst));
     let bar = ProgressBar::with_draw_target(None, ProgressDrawTarget::hidden());

@@ -101,6 +101,8 @@ pub enum ChoiceRule {
     },
     /// A weighted step set shorter than every lattice design.
     WeightedShorter,
+    /// A weighted step set where no lattice design exists within the limits.
+    WeightedOnly,
 }
 
 /// Pick the best of several equal-length candidates; returns its index and the rule that

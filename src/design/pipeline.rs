@@ -8,7 +8,7 @@ use super::report::{DesignKind, DesignReport};
 use super::step_order::{float_weights, order_steps};
 use super::to_cycle::lattice_cycle;
 use super::verify::verify;
-use super::weighted_stage::{search_below, weighted_cycle};
+use super::weighted_stage::{weighted_below, weighted_without_lattice};
 use super::yardsticks::min_cogwheel;
 use super::{prepare, DesignOptions, PlanError, Prepared};
 use crate::cycle::{Cycle, CycleMeta};
@@ -43,11 +43,17 @@ pub fn design(
             lattices_tested,
             cancelled,
         } => {
-            report.refusal = Some(refusal);
             report.impossible = causes;
             report.excluded_below = excluded_below;
             report.lattices_tested = lattices_tested;
             report.cancelled = cancelled;
+            let wider = matches!(refusal, Refusal::NoLatticeDesign { .. }) && !cancelled;
+            report.refusal = Some(refusal);
+            if wider {
+                if let Some(cycle) = weighted_without_lattice(sel, &prep, opts, ctl, &mut report) {
+                    finish(sel, cycle, &mut report)?;
+                }
+            }
             report.seconds = start.elapsed().as_secs_f64();
             return Ok(report);
         }
@@ -64,13 +70,19 @@ pub fn design(
     if let Some(w) = weighted_below(sel, &prep, &found, &lattice, opts, ctl, &mut report) {
         cycle = w;
     }
+    finish(sel, cycle, &mut report)?;
+    report.seconds = start.elapsed().as_secs_f64();
+    Ok(report)
+}
+
+/// Last stage: the checker verifies the written cycle, and the report takes its verdict.
+fn finish(sel: &Selection, cycle: Cycle, report: &mut DesignReport) -> Result<(), PlanError> {
     let v = verify(sel, &cycle)?;
     report.first_leak_order = v.first_leak_order;
     report.noise_efficiency = v.noise_efficiency.iter().copied().fold(1.0, f64::min);
     report.verified = Some(v);
     report.cycle = Some(cycle);
-    report.seconds = start.elapsed().as_secs_f64();
-    Ok(report)
+    Ok(())
 }
 
 /// Fill the report from the lattice stage and the choice.
@@ -151,51 +163,4 @@ fn build_lattice_cycle(
     let cycle = lattice_cycle(exp, &prep.cycled, &phases, &order.order, &sigs, meta)?;
     report.step_order = Some(order);
     Ok(cycle)
-}
-
-/// Stage: a weighted step set shorter than the lattice optimum, if one exists on the grid;
-/// returns its cycle when it replaces the lattice design.
-fn weighted_below(
-    sel: &Selection,
-    prep: &Prepared,
-    found: &LatticeFound,
-    lattice: &Lattice,
-    opts: &DesignOptions,
-    ctl: &SearchControl,
-    report: &mut DesignReport,
-) -> Option<Cycle> {
-    if !found.proven_minimal || found.layout != ClassLayout::Shared {
-        return None;
-    }
-    let exp = &sel.experiment;
-    let steps = found.design.steps;
-    let (summary, w) = search_below(
-        prep,
-        lattice,
-        steps,
-        opts.beyond_step_sets,
-        opts.beyond_max_steps,
-        ctl.cancel,
-    )?;
-    let cycle = w.map(|w| {
-        let meta = CycleMeta {
-            title: Some(format!("{} — designed cycle (weighted)", exp.title)),
-            grid: None,
-            made_by: Some(format!(
-                "pathsieve {} design (weighted non-lattice search)",
-                env!("CARGO_PKG_VERSION")
-            )),
-            experiment: Some(exp.title.clone()),
-            notes: vec![summary.note.clone()],
-            written: None,
-        };
-        report.lattice_steps = Some(steps);
-        report.steps = Some(w.n as u64);
-        report.kind = Some(DesignKind::Weighted { steps: w.n });
-        report.choice = Some(ChoiceRule::WeightedShorter);
-        report.step_order = None;
-        weighted_cycle(exp, prep, &w, meta)
-    });
-    report.beyond = Some(summary);
-    cycle
 }

@@ -106,6 +106,8 @@ pub struct DesignReport {
     pub caveats: Vec<String>,
     /// Which refusal, when no design is returned.
     pub refusal: Option<Refusal>,
+    /// The lattice class's refusal when a weighted design was found instead.
+    pub lattice_refusal: Option<Refusal>,
     /// The terms behind the refusal, grouped.
     pub impossible: Vec<Impossibility>,
     /// True when the search was interrupted (the design is then not proven minimal).
@@ -164,6 +166,7 @@ impl DesignReport {
             lattice_steps: None,
             caveats: crate::caveats::caveats(exp, &prep.outputs),
             refusal: None,
+            lattice_refusal: None,
             impossible: prep.impossible.clone(),
             cancelled: false,
             seconds: 0.0,

@@ -41,6 +41,7 @@ pub fn choice_text(c: &ChoiceRule) -> String {
             "{candidates} equal-length lattice designs tie on every rule; the first in the search's canonical order"
         ),
         ChoiceRule::WeightedShorter => "a weighted step set shorter than every lattice design wins on length (its weights are not unit-modulus)".into(),
+        ChoiceRule::WeightedOnly => "no lattice design exists within the limits; the shortest weighted step set on the grid, the most noise-efficient of its length".into(),
     }
 }
 
@@ -74,11 +75,16 @@ fn kind_text(r: &DesignReport) -> String {
         Some(DesignKind::Lattice { .. }) => {
             "a lattice cycle that is neither nested nor cogwheel".into()
         }
-        Some(DesignKind::Weighted { .. }) => format!(
-            "a weighted non-lattice step set (shorter than the {}-step lattice optimum; noise efficiency {:.3})",
-            r.lattice_steps.unwrap_or(0),
-            r.noise_efficiency
-        ),
+        Some(DesignKind::Weighted { .. }) => match r.lattice_steps {
+            Some(l) => format!(
+                "a weighted non-lattice step set (shorter than the {l}-step lattice optimum; noise efficiency {:.3})",
+                r.noise_efficiency
+            ),
+            None => format!(
+                "a weighted non-lattice step set (no lattice design exists within the limits; noise efficiency {:.3})",
+                r.noise_efficiency
+            ),
+        },
         None => String::new(),
     }
 }
@@ -128,11 +134,15 @@ fn leak_text(r: &DesignReport) -> String {
 
 fn proof_text(r: &DesignReport) -> String {
     if let (Some(DesignKind::Weighted { steps }), Some(b)) = (&r.kind, &r.beyond) {
+        let lattice = match r.lattice_steps {
+            Some(l) => format!(
+                "every lattice design needs at least {l} steps (proven by the lattice search)"
+            ),
+            None => "no lattice design exists within the limits (every one tested)".into(),
+        };
         format!(
-            " Minimality: every lattice design needs at least {} steps (proven by the lattice search), and every weighted step set with fewer than {steps} steps on the grid {:?} fails ({}).",
-            r.lattice_steps.unwrap_or(0),
-            b.grid,
-            "exhaustive search, exact"
+            " Minimality: {lattice}, and every weighted step set with fewer than {steps} steps on the grid {:?} fails (exhaustive search, exact).",
+            b.grid
         )
     } else if let (true, Some(b)) = (
         r.proven_minimal,
@@ -213,8 +223,14 @@ fn refusal_text(r: &DesignReport, refusal: &Refusal) -> String {
             } else {
                 "every one was tested".into()
             };
+            let wider = match &r.beyond {
+                Some(b) => format!("\n  Weighted step sets (the wider class): {}.", b.note),
+                None if r.cancelled => String::new(),
+                None if r.grid.contains(&0) => "\n  Weighted step sets (the wider class) were not searched: that search needs a phase grid (--grid) or a phase cap (--max-phases) on every cycled field.".into(),
+                None => "\n  Weighted step sets (the wider class) were not searched (--weighted-work 0).".into(),
+            };
             return format!(
-                "No lattice design within the limits{classes}: {why}. Remedy: {}.",
+                "No lattice design within the limits{classes}: {why}. Remedy: {}.{wider}",
                 remedy_text(remedy)
             );
         }
