@@ -4,8 +4,7 @@
 
 use anyhow::{bail, Context};
 use clap::{Args, ValueEnum};
-use pathsieve::check::{bind_cycle, check, CheckOptions, SnapPolicy};
-use pathsieve::cycle::{read_cycle, CycleOutput};
+use pathsieve::cycle::read_cycle;
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::export::mask::{mask_set_csv, mask_set_npy, masks_for_cycle};
 use pathsieve::export::meta::{sha256_hex, sidecar_path, ExportMeta};
@@ -13,8 +12,8 @@ use pathsieve::export::phase_formats::{
     exported_weights, list_json, phases_csv, phases_npy, weights_csv, weights_npy,
 };
 use pathsieve::export::phase_list::{ExportUnit, PhaseList};
+use pathsieve::export::plan::{plan_export, ExportPlan, RowOrder};
 use pathsieve::export::shaper::parse_shaper;
-use pathsieve::export::step_order::drift_order_for;
 use pathsieve::safe_write::write_many_atomic;
 use pathsieve::selection::{Selection, SelectionRequest};
 use std::path::{Path, PathBuf};
@@ -96,51 +95,23 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
     let exp_bytes = std::fs::read(&a.experiment)
         .with_context(|| format!("cannot read {}", a.experiment.display()))?;
     let exp = read_experiment(&a.experiment)?;
-    let mut cycle = read_cycle(&a.cycle, None)?;
+    let cycle = read_cycle(&a.cycle, None)?;
     let sel = Selection::new(&exp, &SelectionRequest::default())?;
-    let report = check(&sel, &cycle, &CheckOptions::default()).with_context(|| {
+    let row_order = match a.order {
+        Order::Designed => RowOrder::Designed,
+        Order::Drift => RowOrder::Drift,
+    };
+    let ExportPlan {
+        list,
+        report,
+        notes,
+    } = plan_export(&sel, &cycle, row_order).with_context(|| {
         format!(
             "checking {} against {}",
             a.cycle.display(),
             a.experiment.display()
         )
     })?;
-    // Use the bound outputs: a table without weight columns gets each signal's derived weights.
-    let bound = bind_cycle(
-        &sel,
-        &cycle,
-        &SnapPolicy {
-            enabled: false,
-            ..SnapPolicy::default()
-        },
-    )?;
-    cycle.outputs = bound
-        .outputs
-        .iter()
-        .map(|o| CycleOutput {
-            name: o.name.clone(),
-            weights: o.weights.clone(),
-            source: o.source.clone(),
-        })
-        .collect();
-    let mut list = PhaseList::from_cycle(&cycle)?.with_experiment_fields(&exp)?;
-    let mut notes = vec![format!(
-        "exact check at export: {} through order {}{}",
-        if report.clean { "clean" } else { "LEAKS" },
-        report.order,
-        report
-            .first_leak_order
-            .map_or(String::new(), |k| format!(", first leak order {k}"))
-    )];
-    if a.order == Order::Drift {
-        let backgrounds: Vec<Vec<i64>> = sel.backgrounds().into_iter().map(|b| b.0).collect();
-        let d = drift_order_for(&list.turns_f64(), &list.weights, &backgrounds);
-        notes.push(format!(
-            "drift-robust order: largest first moment of {} cancelled low-order backgrounds {:.4} -> {:.4} (per unit relative drift per step, relative to N sum|w|)",
-            d.backgrounds, d.before, d.after
-        ));
-        list = list.reordered(&d.order)?;
-    }
     let grid = match unit {
         ExportUnit::Index => list.index_grid(a.grid)?,
         _ => {
@@ -168,10 +139,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         unit: unit_name,
         grid: list.grid.clone(),
         steps: list.len(),
-        step_order: match a.order {
-            Order::Designed => "designed".into(),
-            Order::Drift => "drift".into(),
-        },
+        step_order: row_order.name().into(),
         source_steps: list.source_steps.clone(),
         notes,
         weights: Vec::new(),

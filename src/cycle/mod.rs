@@ -1,14 +1,17 @@
 //! The phase-cycle model shared by the checker, the designer and the exporters: steps with a
 //! phase per field, one weight vector per output, and metadata. File formats live in the
-//! submodules ([`toml_format`], [`csv_format`], shared cell texts in [`text`]); this module holds
+//! submodules ([`toml_format`], [`csv_format`], shared cell texts in [`text`], numeric arrays in
+//! [`arrays`]); this module holds
 //! the data, its exact/float views and [`read_cycle`], which picks the format by extension.
 
+pub mod arrays;
 pub mod csv_format;
 pub mod dialect;
 pub mod plausible;
 pub mod text;
 pub mod toml_format;
 
+pub use arrays::{cycle_from_arrays, ArrayError};
 pub use csv_format::{read_cycle_csv, write_cycle_csv};
 pub use toml_format::{read_cycle_toml, write_cycle_toml};
 
