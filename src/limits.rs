@@ -27,9 +27,6 @@ pub const MAX_FILE_BYTES: u64 = 64 * 1024 * 1024;
 /// (`|b_j| <= MAX_ORDER`), and small enough that sums, differences and products of entries
 /// over [`MAX_FIELDS`] fields never come near `i64` overflow.
 pub const MAX_SIGNATURE_ENTRY: i64 = 1000;
-/// Largest magnitude of a numeric beam component (`beam = [x, y]`), and largest denominator
-/// a fractional component may need; phase matching is then decided exactly.
-pub const MAX_BEAM_COMPONENT: i64 = 1_000_000;
 /// Largest number of `[[signal]]` tables in an experiment and of outputs (weight columns,
 /// `[[output]]` tables) in a cycle file.
 pub const MAX_OUTPUTS: usize = 64;

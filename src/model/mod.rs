@@ -3,6 +3,7 @@
 //! and validated there; everything downstream takes it as correct.
 
 pub mod backgrounds;
+pub mod geometry;
 mod levels;
 mod overlap;
 
@@ -203,6 +204,10 @@ pub struct Experiment {
     /// Sizes of the rejected terms relative to the wanted signal (`[backgrounds]`), for
     /// ranking leaks by how much they matter.
     pub backgrounds: Backgrounds,
+    /// Notes on beam components snapped to exact values within their written precision.
+    pub beam_notes: Vec<String>,
+    /// Beam components kept at their rounded written values (no simple exact value fits).
+    pub beam_rounding: Vec<geometry::RoundedComponent>,
 }
 
 impl Experiment {
@@ -281,43 +286,24 @@ impl Experiment {
     /// True when the term `b` is phase matched: `sum_j b_j k_j = 0` over all fields, with
     /// beams given as transverse directions. Collinear fields (no beam) never constrain.
     pub fn is_phase_matched(&self, b: &Signature) -> bool {
-        let dims = self
-            .fields
-            .iter()
-            .filter_map(|f| f.beam.as_ref().map(|v| v.len()))
-            .max()
-            .unwrap_or(0);
-        (0..dims).all(|d| {
-            let terms = self.fields.iter().zip(b.as_slice()).filter_map(|(f, &bj)| {
-                f.beam
-                    .as_ref()
-                    .map(|v| (v.get(d).copied().unwrap_or_default(), bj))
-            });
-            beam_sum_is_zero(terms)
-        })
+        let beams = self.beams();
+        let dims = beams.iter().flatten().map(|v| v.len()).max().unwrap_or(0);
+        // Big rationals: sums of many-digit components never overflow.
+        (0..dims).all(|d| num_traits::Zero::is_zero(&geometry::exact_sum(&beams, b, d)))
     }
-}
 
-/// `sum_j k_j * b_j == 0`, exactly and without overflow: checked `i128` rationals, and big
-/// rationals should even those overflow (the reader bounds beams and signatures, so the fast
-/// path always suffices for a file; the fallback keeps the library total for any caller).
-fn beam_sum_is_zero(terms: impl Iterator<Item = (num_rational::Ratio<i64>, i64)> + Clone) -> bool {
-    use num_rational::{BigRational, Ratio};
-    use num_traits::{CheckedAdd, CheckedMul, Zero};
-    let fast = terms
-        .clone()
-        .try_fold(Ratio::<i128>::zero(), |acc, (k, bj)| {
-            let k = Ratio::new(i128::from(*k.numer()), i128::from(*k.denom()));
-            acc.checked_add(&k.checked_mul(&Ratio::from_integer(i128::from(bj)))?)
-        });
-    match fast {
-        Some(total) => total.is_zero(),
-        None => terms
-            .map(|(k, bj)| {
-                BigRational::new((*k.numer()).into(), (*k.denom()).into())
-                    * BigRational::from_integer(bj.into())
-            })
-            .fold(BigRational::zero(), |a, x| a + x)
-            .is_zero(),
+    /// The beam direction of each field (`None`: collinear, no constraint).
+    pub fn beams(&self) -> Vec<Option<&[num_rational::Ratio<i64>]>> {
+        self.fields.iter().map(|f| f.beam.as_deref()).collect()
+    }
+
+    /// When whether `b` is phase matched depends on how rounded beam components are read
+    /// (see [`geometry`]), the reason; `None` when every reading within the written precision
+    /// decides alike.
+    pub fn phase_matching_depends_on_rounding(&self, b: &Signature) -> Option<String> {
+        if self.beam_rounding.is_empty() {
+            return None;
+        }
+        geometry::rounding_dependence(&self.beams(), &self.beam_rounding, b)
     }
 }
