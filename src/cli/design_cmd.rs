@@ -1,8 +1,9 @@
 //! `pathsieve design`: the smallest phase cycle for an experiment, with its proof of
 //! minimality, a step table, a summary paragraph, JSON, and the cycle file the checker reads.
 
-use super::design_progress::{install_ctrl_c, with_progress, ProgressMode, CANCEL};
+use super::design_progress::{with_progress, ProgressMode};
 use super::output::{print, print_json, table, RejectionArgs};
+use super::signals;
 use anyhow::bail;
 use clap::Args;
 use pathsieve::cycle::{Cycle, Phase};
@@ -13,8 +14,7 @@ use pathsieve::experiment_file::read_experiment;
 use pathsieve::render::design_summary;
 use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
-use std::path::PathBuf;
-
+use std::path::{Path, PathBuf};
 
 /// Arguments of `pathsieve design`.
 #[derive(Args, Debug)]
@@ -48,8 +48,9 @@ pub struct DesignArgs {
     /// or none.
     #[arg(long, value_enum, default_value_t = ProgressMode::Auto)]
     progress: ProgressMode,
-    /// Write the cycle file (TOML, read by `pathsieve check`) here.
-    #[arg(long, value_name = "CYCLE.toml")]
+    /// Write the cycle file here: a TOML cycle file for `.toml`, the plain table for `.csv`
+    /// (both read by `pathsieve check`).
+    #[arg(long, value_name = "CYCLE.toml|CYCLE.csv")]
     out: Option<PathBuf>,
     /// Overwrite an existing output file.
     #[arg(long)]
@@ -69,7 +70,6 @@ struct JsonOut<'a> {
 
 /// Run the subcommand.
 pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
-    let exp = read_experiment(&a.file)?;
     if a.max_steps == 0 {
         bail!("--max-steps must be at least 1");
     }
@@ -83,11 +83,16 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
             pathsieve::design::weighted::MAX_BEYOND_STEPS
         );
     }
-    if let Some(o) = &a.out {
-        if o.exists() && !a.force {
-            bail!("{} exists; use --force to overwrite", o.display());
+    // The output is checked before any work: kind, extension, not the input, --force.
+    let out_format = match &a.out {
+        Some(o) => {
+            let f = OutFormat::of(o)?;
+            pathsieve::safe_write::check_targets(&[o], &[&a.file], a.force)?;
+            Some(f)
         }
-    }
+        None => None,
+    };
+    let exp = read_experiment(&a.file)?;
     // Limits before work: the cycled-field count is known before any set is built.
     cycled_fields(&exp)?;
     let sel = Selection::new(
@@ -103,25 +108,42 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         beyond_step_sets: a.weighted_work,
         beyond_max_steps: a.weighted_max_steps,
     };
-    install_ctrl_c();
     let progress = if a.json && a.progress == ProgressMode::Auto {
         ProgressMode::None
     } else {
         a.progress
     };
     let report = with_progress(progress, a.time_limit, |cb| {
-        design(
+        signals::cooperative(true);
+        let r = design(
             &sel,
             &req,
             &SearchControl {
-                cancel: &CANCEL,
+                cancel: &signals::CANCEL,
                 progress: Some(cb),
             },
-        )
+        );
+        signals::cooperative(false);
+        r
     })?;
-    let code = if report.steps.is_some() { 0 } else { 1 };
-    if let (Some(path), Some(cycle)) = (&a.out, &report.cycle) {
-        let text = pathsieve::cycle::toml_format::write_cycle_toml(cycle);
+    let code = if report.cancelled {
+        signals::EXIT_NOT_PROVEN
+    } else if report.steps.is_some() {
+        0
+    } else {
+        1
+    };
+    let mut cycle = report.cycle.clone();
+    if let (true, Some(c)) = (report.cancelled, cycle.as_mut()) {
+        c.meta
+            .notes
+            .insert(0, not_proven_note(report.excluded_below));
+    }
+    if let (Some(path), Some(cycle), Some(f)) = (&a.out, &cycle, out_format) {
+        let text = match f {
+            OutFormat::Toml => pathsieve::cycle::toml_format::write_cycle_toml(cycle),
+            OutFormat::Csv => pathsieve::cycle::csv_format::write_cycle_csv(cycle),
+        };
         pathsieve::safe_write::write_atomic(path, text.as_bytes(), a.force)?;
         if !a.json {
             eprintln!("wrote the cycle to {}", path.display());
@@ -131,7 +153,7 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         print_json(&JsonOut {
             report: &report,
             summary: design_summary::summary(&report),
-            cycle: report.cycle.as_ref(),
+            cycle: cycle.as_ref(),
         })?;
         return Ok(code);
     }
@@ -165,6 +187,36 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     }
     print(&out)?;
     Ok(code)
+}
+
+/// The mark an interrupted design's cycle file carries (first note).
+fn not_proven_note(excluded_below: u64) -> String {
+    format!(
+        "NOT PROVEN MINIMAL: the design search was interrupted; no lattice design has fewer than {excluded_below} steps, but a shorter one may exist between that and this cycle's length (exit code {})",
+        signals::EXIT_NOT_PROVEN
+    )
+}
+
+/// The format `--out` asks for, from its extension.
+#[derive(Clone, Copy)]
+enum OutFormat {
+    Toml,
+    Csv,
+}
+
+impl OutFormat {
+    fn of(path: &Path) -> anyhow::Result<OutFormat> {
+        let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("");
+        match ext.to_ascii_lowercase().as_str() {
+            "toml" => Ok(OutFormat::Toml),
+            "csv" => Ok(OutFormat::Csv),
+            _ => bail!(
+                "--out {}: the cycle file must end in .toml (cycle file) or .csv (plain table); rename it, e.g. {}",
+                path.display(),
+                path.with_extension("toml").display()
+            ),
+        }
+    }
 }
 
 /// The step table: one row per step, phases as exact fractions of a turn, weights per output.

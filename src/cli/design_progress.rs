@@ -1,7 +1,7 @@
 //! Progress of a design run and how it is stopped: a terminal line, or JSON lines on stderr
 //! (`--progress json`), refreshed at least once a second once the run passes a second;
-//! `--time-limit` and the first Ctrl-C stop the search with the best design so far and its
-//! proven lower bound, a second Ctrl-C quits at once.
+//! `--time-limit` stops the search with the best design so far and its proven lower bound, as
+//! the first Ctrl-C does (`super::signals`; a second Ctrl-C quits at once).
 
 use clap::ValueEnum;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
@@ -19,22 +19,6 @@ pub enum ProgressMode {
     Json,
     /// Nothing.
     None,
-}
-
-/// Exit code when a second Ctrl-C ends the run at once (128 + SIGINT, common practice).
-const QUIT_AT_ONCE: i32 = 130;
-
-/// The search's cancel flag: the first Ctrl-C sets it, a second one exits.
-pub static CANCEL: AtomicBool = AtomicBool::new(false);
-
-/// Install the Ctrl-C handler (idempotent).
-pub fn install_ctrl_c() {
-    let _ = ctrlc::set_handler(|| {
-        if CANCEL.swap(true, Ordering::SeqCst) {
-            std::process::exit(QUIT_AT_ONCE);
-        }
-        eprintln!("\nstopping: returning the best design so far (Ctrl-C again quits at once)");
-    });
 }
 
 /// The line for a progress state.
@@ -92,7 +76,7 @@ pub fn with_progress<T: Send>(
             while !done.load(Ordering::SeqCst) {
                 let t = started.elapsed().as_secs_f64();
                 if time_limit.is_some_and(|l| t >= l) {
-                    CANCEL.store(true, Ordering::SeqCst);
+                    super::signals::CANCEL.store(true, Ordering::SeqCst);
                 }
                 match mode {
                     ProgressMode::Auto if t > 1.0 && !shown => {
