@@ -28,7 +28,7 @@ pub fn parse_unit(text: &str) -> Result<PhaseUnit, String> {
                 }
             } else {
                 Err(format!(
-                    "unknown phase unit `{text}`; use turns, deg, rad or index:M"
+                    "unknown phase unit `{text}`; use turns, degrees (deg), radians (rad) or index:M (grid:M)"
                 ))
             }
         }
