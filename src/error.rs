@@ -37,6 +37,12 @@ impl InputError {
 /// A request that is well-formed but cannot be served by the model.
 #[derive(Debug, Clone, PartialEq, Eq, Error)]
 pub enum ModelError {
+    /// A phase-matching decision depends on how rounded beam components are read.
+    #[error("{detail}; the geometry filter would have to guess. Fix: write the beam directions exactly (integers or simple fractions; scaling every beam by one factor changes nothing, so [1, 1] can stand for [0.707, 0.707]), or give more digits, or check without the geometry filter (--no-geometry)")]
+    BeamRounding {
+        /// Which term, which components, where written.
+        detail: String,
+    },
     /// A wanted class has no pathway in this level scheme and detection.
     #[error("output `{output}` asks for class {class}, but no signal pathway of this experiment has it (for 2Q the level scheme needs a two-quantum manifold); drop the class or extend the level scheme")]
     EmptyClass {

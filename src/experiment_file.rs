@@ -16,6 +16,7 @@ use std::path::{Path, PathBuf};
 use toml::Spanned;
 
 mod backgrounds;
+mod beams;
 mod overlap;
 
 #[derive(Deserialize)]
@@ -229,7 +230,8 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
         (_, Some(l)) => Some(build_levels(ctx, l)?),
     };
 
-    let fields = build_fields(ctx, raw_fields, levels.as_ref())?;
+    let mut geometry = BeamReading::default();
+    let fields = build_fields(ctx, raw_fields, levels.as_ref(), &mut geometry)?;
     check_reference(ctx, fields_span, &fields, &detection)?;
 
     let n_pulses = fields.iter().filter(|f| f.kind == FieldKind::Pulse).count() as u32;
@@ -273,6 +275,8 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
         swap_rnr_labels: raw.swap_rnr_labels,
         wanted: Vec::new(),
         backgrounds: crate::model::Backgrounds::default(),
+        beam_notes: geometry.notes,
+        beam_rounding: geometry.rounded,
     };
     exp.wanted = build_signals(ctx, raw.signals, &exp)?;
     exp.backgrounds = backgrounds::build_backgrounds(ctx, raw.backgrounds, &exp)?;
@@ -434,6 +438,7 @@ fn build_fields(
     ctx: &Ctx,
     raw: Vec<Spanned<RawField>>,
     levels: Option<&LevelScheme>,
+    geometry: &mut BeamReading,
 ) -> Result<Vec<Field>, InputError> {
     let mut labels: Vec<String> = Vec::new();
     let mut numeric_dims = 0usize;
@@ -557,14 +562,15 @@ fn build_fields(
                     BeamSpec::Label(s)
                 }
                 toml::Value::Array(a) if (1..=3).contains(&a.len()) => {
+                    let texts = beams::element_texts(ctx.text.get(b.span()).unwrap_or(""));
+                    let line = ctx.line_of(b.span().start);
                     let mut v = Vec::new();
-                    for x in a {
-                        let r = match x {
-                            toml::Value::Integer(i) => Ratio::from_integer(*i),
-                            toml::Value::Float(fl) if fl.is_finite() => Ratio::approximate_float(*fl).unwrap_or_default(),
-                            _ => return Err(ctx.err(b.span(), "field.beam", "beam components must be numbers")),
-                        };
-                        v.push(r);
+                    for (d, x) in a.iter().enumerate() {
+                        let text = (texts.len() == a.len()).then(|| texts[d].as_str());
+                        let c = beams::component(ctx, line, (pending.len(), &name), d, x, text)?;
+                        geometry.notes.extend(c.note);
+                        geometry.rounded.extend(c.rounded);
+                        v.push(c.value);
                     }
                     numeric_dims = numeric_dims.max(v.len());
                     BeamSpec::Vector(v)
@@ -602,6 +608,14 @@ fn build_fields(
             }
         })
         .collect())
+}
+
+/// What reading numeric beam directions found: snapping notes and components kept at their
+/// rounded written values.
+#[derive(Default)]
+struct BeamReading {
+    notes: Vec<String>,
+    rounded: Vec<crate::model::geometry::RoundedComponent>,
 }
 
 enum BeamSpec {

@@ -88,7 +88,10 @@ impl NumericFilter {
     /// Rigorous bound on `|F_true(b) - F_computed(b)|` for every table within the written
     /// precision: `sum_m |w_m| min(2, 2 pi sum_j |b_j| h_mj) + r_m` (with `b - t` for derived
     /// weights, whose radius is then 0), plus the float evaluation error
-    /// `eps sum |w| (32 (|b|_1 + 4) + 2N)`; rounded up.
+    /// `eps sum |w| (32 (|b|_1 + 4) + 2N)`; rounded up. The float term covers the rounding of
+    /// phases below one turn, of the sums `b.phi`, of `2 pi x` and of the sums over steps, and
+    /// assumes the platform's `sin`/`cos` err by at most a few ulp: it is a generous bound,
+    /// not a machine-checked one (no interval `sin`/`cos` is used).
     pub fn bound(&self, b: &[i64]) -> f64 {
         let shifted: Vec<i64> = match &self.derived_from {
             Some(t) => b.iter().zip(t).map(|(x, y)| x - y).collect(),
@@ -131,8 +134,16 @@ impl Evaluator {
             WeightSource::FromSignature(_) => out.derived_from.as_ref().map(|t| t.0.clone()),
             WeightSource::Explicit => None,
         };
+        // Each phase reduced into [0, 1) turn (exact in floating point, F unchanged), so the
+        // float-error term of `NumericFilter::bound`, which assumes phases below one turn,
+        // holds for tables written with phases such as 400 deg.
+        let phases = bound
+            .phases_f64()
+            .into_iter()
+            .map(|r| r.into_iter().map(|p| p.rem_euclid(1.0)).collect())
+            .collect();
         Ok(Evaluator::Numeric(Box::new(NumericFilter {
-            phases: bound.phases_f64(),
+            phases,
             weights: out.weights.iter().map(Weight::to_complex).collect(),
             half_width: bound.half_width.clone(),
             weight_radius: out.weight_radius.clone(),

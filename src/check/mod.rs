@@ -360,6 +360,21 @@ fn selection_notes(sel: &Selection) -> Vec<String> {
             .into_iter()
             .map(|c| format!("cannot be cycled away: {c}")),
     );
+    if sel.geometry {
+        notes.extend(sel.experiment.beam_notes.iter().cloned());
+        let rounded: Vec<String> = sel
+            .experiment
+            .beam_rounding
+            .iter()
+            .map(|r| format!("`{}` ({})", r.text, r.location))
+            .collect();
+        if !rounded.is_empty() {
+            notes.push(format!(
+                "beam components {} match no simple exact value and keep their written values; equal written values are taken as equal, and no phase-matching decision depends on their rounding",
+                rounded.join(", ")
+            ));
+        }
+    }
     let s = &sel.leak_search;
     if s.to < s.wanted {
         notes.push(format!(

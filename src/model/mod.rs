@@ -3,6 +3,7 @@
 //! and validated there; everything downstream takes it as correct.
 
 pub mod backgrounds;
+pub mod geometry;
 mod levels;
 mod overlap;
 
@@ -203,6 +204,10 @@ pub struct Experiment {
     /// Sizes of the rejected terms relative to the wanted signal (`[backgrounds]`), for
     /// ranking leaks by how much they matter.
     pub backgrounds: Backgrounds,
+    /// Notes on beam components snapped to exact values within their written precision.
+    pub beam_notes: Vec<String>,
+    /// Beam components kept at their rounded written values (no simple exact value fits).
+    pub beam_rounding: Vec<geometry::RoundedComponent>,
 }
 
 impl Experiment {
@@ -281,24 +286,24 @@ impl Experiment {
     /// True when the term `b` is phase matched: `sum_j b_j k_j = 0` over all fields, with
     /// beams given as transverse directions. Collinear fields (no beam) never constrain.
     pub fn is_phase_matched(&self, b: &Signature) -> bool {
-        let dims = self
-            .fields
-            .iter()
-            .filter_map(|f| f.beam.as_ref().map(|v| v.len()))
-            .max()
-            .unwrap_or(0);
-        (0..dims).all(|d| {
-            let total: num_rational::Ratio<i64> = self
-                .fields
-                .iter()
-                .zip(b.as_slice())
-                .filter_map(|(f, &bj)| {
-                    f.beam
-                        .as_ref()
-                        .map(|v| v.get(d).copied().unwrap_or_default() * bj)
-                })
-                .sum();
-            total == num_rational::Ratio::from_integer(0)
-        })
+        let beams = self.beams();
+        let dims = beams.iter().flatten().map(|v| v.len()).max().unwrap_or(0);
+        // Big rationals: sums of many-digit components never overflow.
+        (0..dims).all(|d| num_traits::Zero::is_zero(&geometry::exact_sum(&beams, b, d)))
+    }
+
+    /// The beam direction of each field (`None`: collinear, no constraint).
+    pub fn beams(&self) -> Vec<Option<&[num_rational::Ratio<i64>]>> {
+        self.fields.iter().map(|f| f.beam.as_deref()).collect()
+    }
+
+    /// When whether `b` is phase matched depends on how rounded beam components are read
+    /// (see [`geometry`]), the reason; `None` when every reading within the written precision
+    /// decides alike.
+    pub fn phase_matching_depends_on_rounding(&self, b: &Signature) -> Option<String> {
+        if self.beam_rounding.is_empty() {
+            return None;
+        }
+        geometry::rounding_dependence(&self.beams(), &self.beam_rounding, b)
     }
 }

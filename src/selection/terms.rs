@@ -2,7 +2,8 @@
 //! origin: the agnostic set (every `sum b = 0` term), or the enumerated pathways with their
 //! conjugates plus the reference alone and every pair term, or for NMR every coherence path
 //! by coherence level. The geometry filter drops coherent terms (`sum |b| > 2`) that the beams
-//! do not phase-match and never a pair or scatter term (docs/conventions.md).
+//! do not phase-match and never a pair or scatter term (docs/conventions.md); it refuses when a
+//! decision depends on the rounding of a written beam component ([`crate::model::geometry`]).
 
 use super::{Origin, RejectionSource, Term};
 use crate::agnostic::sum_zero_ball;
@@ -28,6 +29,14 @@ pub fn build(
         }
     };
     if geometry {
+        // Never let the rounding of a written beam component decide what is phase matched.
+        if let Some(detail) = terms
+            .iter()
+            .filter(|t| t.signature.weight() > 2)
+            .find_map(|t| exp.phase_matching_depends_on_rounding(&t.signature))
+        {
+            return Err(ModelError::BeamRounding { detail });
+        }
         terms.retain(|t| t.signature.weight() <= 2 || exp.is_phase_matched(&t.signature));
     }
     terms.sort_by(|a, b| {
