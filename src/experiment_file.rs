@@ -3,7 +3,9 @@
 
 use crate::error::InputError;
 pub use crate::input_text::read_text;
-use crate::limits::{MAX_COHERENCE, MAX_FIELDS, MAX_INTERACTIONS_PER_PULSE, MAX_ORDER, MAX_STATES};
+use crate::limits::{
+    MAX_COHERENCE, MAX_FIELDS, MAX_INTERACTIONS_PER_PULSE, MAX_ORDER, MAX_OUTPUTS, MAX_STATES,
+};
 use crate::model::{
     Detection, Experiment, Field, FieldKind, LevelScheme, PathwayClass, PhaseControl, State,
     Transition, WantedItem, WantedSignal,
@@ -17,6 +19,7 @@ use toml::Spanned;
 
 mod backgrounds;
 mod beams;
+mod numbers;
 mod overlap;
 
 #[derive(Deserialize)]
@@ -71,7 +74,7 @@ struct RawLevels {
 struct RawState {
     name: Spanned<String>,
     manifold: Spanned<i64>,
-    energy: Option<f64>,
+    energy: Option<Spanned<f64>>,
     #[serde(rename = "yield")]
     yield_weight: Option<Spanned<f64>>,
 }
@@ -171,16 +174,17 @@ fn build(ctx: &Ctx, raw: RawExperiment) -> Result<Experiment, InputError> {
                 .as_ref()
                 .map(|s| *s.get_ref())
                 .unwrap_or(-1);
-            if d.abs() > m {
+            if !(-m..=m).contains(&d) {
                 return Err(ctx.err(
                     det_span,
                     "detection.detected_coherence",
                     format!("{d} lies outside -{m}..={m}"),
                 ));
             }
+            // Both lie in -MAX_COHERENCE..=MAX_COHERENCE (checked above), so they fit i32.
             Detection::Nmr {
-                max_coherence: m as i32,
-                detected: d as i32,
+                max_coherence: i32::try_from(m).unwrap_or(MAX_COHERENCE),
+                detected: i32::try_from(d).unwrap_or(-1),
             }
         }
         other => {
@@ -320,23 +324,14 @@ fn build_levels(ctx: &Ctx, raw: Spanned<RawLevels>) -> Result<LevelScheme, Input
         }
         let default_yield = if m == 0 { 0.0 } else { 1.0 };
         let y = match &s.yield_weight {
-            Some(y) => {
-                let v = *y.get_ref();
-                if !v.is_finite() {
-                    return Err(ctx.err(
-                        y.span(),
-                        "levels.states.yield",
-                        "yield must be a finite number",
-                    ));
-                }
-                v
-            }
+            Some(y) => numbers::yield_weight(ctx, y)?,
             None => default_yield,
         };
+        let energy = numbers::energy(ctx, &s.energy)?;
         states.push(State {
             name,
             manifold: m as u32,
-            energy: s.energy,
+            energy,
             yield_weight: y,
         });
     }
@@ -677,6 +672,16 @@ fn build_signals(
     raw: Vec<Spanned<RawSignal>>,
     exp: &Experiment,
 ) -> Result<Vec<WantedSignal>, InputError> {
+    if raw.len() > MAX_OUTPUTS {
+        return Err(ctx.err(
+            raw[MAX_OUTPUTS].span(),
+            "signal",
+            format!(
+                "{} [[signal]] tables; at most {MAX_OUTPUTS} are allowed (each is one output of every cycle)",
+                raw.len()
+            ),
+        ));
+    }
     let mut out: Vec<WantedSignal> = Vec::new();
     for s in raw {
         let span = s.span();
@@ -703,7 +708,7 @@ fn build_signals(
             if v.len() != exp.fields.len() {
                 return Err(ctx.err(sig.span(), "signal.signatures", format!("signature has {} components but the experiment has {} fields ({}); give one integer per field, LO included", v.len(), exp.fields.len(), exp.field_names().join(", "))));
             }
-            let sig = Signature(v.clone());
+            let sig = Signature(numbers::signature_entries(ctx, sig, "signal.signatures")?);
             if sig.sum() != 0 {
                 return Err(ctx.err(span.clone(), "signal.signatures", format!("signature {sig} sums to {}; every detected term sums to 0 over all fields (include the LO or receiver)", sig.sum())));
             }

@@ -42,6 +42,7 @@ pub mod export;
 pub mod input_text;
 pub mod limits;
 pub mod model;
+pub mod numfmt;
 pub mod pathways;
 pub mod render;
 pub mod safe_write;

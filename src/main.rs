@@ -1,5 +1,7 @@
 //! The `pathsieve` command: parses arguments, calls the library, renders the result.
-//! Exit codes: 0 success (or a clean cycle), 1 leaks found or no design, 2 usage or input error.
+//! Exit codes: 0 success (or a clean cycle), 1 leaks found or no design, 2 usage or input error,
+//! 3 design interrupted (best cycle so far written, marked not proven minimal), 130 interrupted
+//! by SIGINT/SIGTERM (nothing written, temporaries removed).
 
 mod cli;
 
@@ -8,6 +10,7 @@ use std::process::ExitCode;
 
 fn main() -> ExitCode {
     let args = cli::Cli::parse();
+    cli::signals::install();
     match cli::run(args) {
         Ok(code) => ExitCode::from(code),
         Err(e) => {

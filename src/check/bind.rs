@@ -106,7 +106,8 @@ impl BoundCycle {
     }
 
     /// Grid (steps per turn) of field `j`: the declared one, else the lcm of its phase
-    /// denominators; `None` when a phase of the field is approximate.
+    /// denominators; `None` when a phase of the field is approximate or the lcm exceeds
+    /// `u64` (computed with checked arithmetic: no grid is then claimed).
     pub fn grid(&self, j: usize) -> Option<u64> {
         if let Some(g) = &self.declared_grid {
             return g.get(j).copied();
@@ -114,7 +115,7 @@ impl BoundCycle {
         let mut l = 1u64;
         for row in &self.phases {
             let d = row[j].exact()?.denom().unsigned_abs();
-            l = num_integer::lcm(l, d);
+            l = crate::exact::checked_lcm_u64(l, d)?;
         }
         Some(l)
     }
@@ -326,6 +327,8 @@ fn bind_outputs(
                 "the cycle gives no weights and the experiment names no wanted signal; add [[output]] tables (or w:NAME columns) or [[signal]]s".into(),
             ));
         }
+        crate::cycle::bounds::check_cells(phases.len(), col.len() + resolved.len())
+            .map_err(CheckError::BadRequest)?;
         notes.push("the cycle gives no weights: each wanted signal's weights are derived from its first kept signature, w_m = exp(-2 pi i t.phi_m) / N".into());
         for r in resolved {
             let t = r.kept[0].clone();

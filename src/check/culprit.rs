@@ -271,10 +271,10 @@ fn field_values(bound: &BoundCycle, rows: &[Vec<Turns>], j: usize) -> Vec<Turns>
         .iter()
         .zip(&bound.half_width)
         .filter(|(_, h)| h[j] == 0.0)
-        .fold(1u64, |l, (r, _)| {
-            num_integer::lcm(l, r[j].denom().unsigned_abs())
+        .try_fold(1u64, |l, (r, _)| {
+            crate::exact::checked_lcm_u64(l, r[j].denom().unsigned_abs())
         });
-    if grid <= MAX_GRID_TRIED {
+    if let Some(grid) = grid.filter(|&g| g <= MAX_GRID_TRIED) {
         v.extend((0..grid as i64).map(|k| Turns::new(k, grid as i64)));
     }
     v.sort();

@@ -69,6 +69,12 @@ fn name_of(p: &Path) -> String {
 /// Run the subcommand.
 pub fn run(a: CombineArgs) -> anyhow::Result<u8> {
     let format = OutputFormat::from_path(&a.out).map_err(|m| anyhow::anyhow!("--out: {m}"))?;
+    // The output and its sidecar are checked before any work (the per-output files of a
+    // multi-array result are checked again, with everything, when written).
+    let side = sidecar_path(&a.out.with_extension("npy"));
+    let mut inputs = vec![a.experiment.as_path(), a.cycle.as_path(), a.data.as_path()];
+    inputs.extend(a.export.as_deref());
+    pathsieve::safe_write::check_targets(&[&a.out, &side], &inputs, a.force)?;
     let exp_bytes = pathsieve::input_text::read_bytes(&a.experiment)?;
     let exp = read_experiment(&a.experiment)?;
     let cycle = read_cycle(&a.cycle, None)?;
@@ -143,7 +149,6 @@ pub fn run(a: CombineArgs) -> anyhow::Result<u8> {
         stored_as,
         notes,
     };
-    let side = sidecar_path(&a.out.with_extension("npy"));
     files.push((side, meta.json_bytes()));
     write_many_atomic(&files, a.force)?;
     if a.json {

@@ -2,6 +2,7 @@
 //! minimality, a step table, a summary paragraph, JSON, and the cycle file the checker reads.
 
 use super::output::{print, print_json, table, RejectionArgs};
+use super::signals;
 use anyhow::bail;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
@@ -15,11 +16,9 @@ use pathsieve::export::phase_list::{parse_unit_spec, ExportUnit, PhaseList};
 use pathsieve::render::design_summary;
 use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant};
-
-static CANCEL: AtomicBool = AtomicBool::new(false);
 
 /// Arguments of `pathsieve design`.
 #[derive(Args, Debug)]
@@ -45,8 +44,9 @@ pub struct DesignArgs {
     /// Largest step count the weighted search tries (at most 16).
     #[arg(long, value_name = "K", default_value_t = pathsieve::design::weighted::MAX_BEYOND_STEPS)]
     weighted_max_steps: usize,
-    /// Write the cycle file (TOML, read by `pathsieve check`) here.
-    #[arg(long, value_name = "CYCLE.toml")]
+    /// Write the cycle file here: a TOML cycle file for `.toml`, the plain table for `.csv`
+    /// (both read by `pathsieve check`).
+    #[arg(long, value_name = "CYCLE.toml|CYCLE.csv")]
     out: Option<PathBuf>,
     /// Overwrite an existing output file.
     #[arg(long)]
@@ -70,7 +70,6 @@ struct JsonOut<'a> {
 
 /// Run the subcommand.
 pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
-    let exp = read_experiment(&a.file)?;
     let (unit, grid) = parse_unit_spec(&a.unit).map_err(|m| anyhow::anyhow!("--unit: {m}"))?;
     if a.max_steps == 0 {
         bail!("--max-steps must be at least 1");
@@ -82,11 +81,16 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
             pathsieve::design::weighted::MAX_BEYOND_STEPS
         );
     }
-    if let Some(o) = &a.out {
-        if o.exists() && !a.force {
-            bail!("{} exists; use --force to overwrite", o.display());
+    // The output is checked before any work: kind, extension, not the input, --force.
+    let out_format = match &a.out {
+        Some(o) => {
+            let f = OutFormat::of(o)?;
+            pathsieve::safe_write::check_targets(&[o], &[&a.file], a.force)?;
+            Some(f)
         }
-    }
+        None => None,
+    };
+    let exp = read_experiment(&a.file)?;
     // Limits before work: the cycled-field count is known before any set is built.
     cycled_fields(&exp)?;
     let sel = Selection::new(
@@ -102,7 +106,6 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         beyond_step_sets: a.weighted_work,
         beyond_max_steps: a.weighted_max_steps,
     };
-    let _ = ctrlc::set_handler(|| CANCEL.store(true, Ordering::SeqCst));
     let bar = ProgressBar::with_draw_target(None, ProgressDrawTarget::hidden());
     bar.set_style(
         ProgressStyle::with_template("{spinner} {elapsed} {msg}")
@@ -116,7 +119,7 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         ));
     };
     let ctl = SearchControl {
-        cancel: &CANCEL,
+        cancel: &signals::CANCEL,
         progress: Some(&progress),
     };
     // The progress line appears only when the search runs longer than a second.
@@ -135,21 +138,38 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
                 }
             });
         }
+        signals::cooperative(true);
         let r = design(&sel, &req, &ctl);
+        signals::cooperative(false);
         done.store(true, Ordering::SeqCst);
         r
     })?;
     bar.finish_and_clear();
-    let code = if report.steps.is_some() { 0 } else { 1 };
-    if let (Some(path), Some(cycle)) = (&a.out, &report.cycle) {
-        let text = pathsieve::cycle::toml_format::write_cycle_toml(cycle);
+    let code = if report.cancelled {
+        signals::EXIT_NOT_PROVEN
+    } else if report.steps.is_some() {
+        0
+    } else {
+        1
+    };
+    let mut cycle = report.cycle.clone();
+    if let (true, Some(c)) = (report.cancelled, cycle.as_mut()) {
+        c.meta
+            .notes
+            .insert(0, not_proven_note(report.excluded_below));
+    }
+    if let (Some(path), Some(cycle), Some(f)) = (&a.out, &cycle, out_format) {
+        let text = match f {
+            OutFormat::Toml => pathsieve::cycle::toml_format::write_cycle_toml(cycle),
+            OutFormat::Csv => pathsieve::cycle::csv_format::write_cycle_csv(cycle),
+        };
         pathsieve::safe_write::write_atomic(path, text.as_bytes(), a.force)?;
         if !a.json {
             eprintln!("wrote the cycle to {}", path.display());
         }
     }
     if a.json {
-        let flat = match &report.cycle {
+        let flat = match &cycle {
             Some(c) => {
                 let list = PhaseList::from_cycle(c)?;
                 let m = match unit {
@@ -199,6 +219,36 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     }
     print(&out)?;
     Ok(code)
+}
+
+/// The mark an interrupted design's cycle file carries (first note).
+fn not_proven_note(excluded_below: u64) -> String {
+    format!(
+        "NOT PROVEN MINIMAL: the design search was interrupted; no lattice design has fewer than {excluded_below} steps, but a shorter one may exist between that and this cycle's length (exit code {})",
+        signals::EXIT_NOT_PROVEN
+    )
+}
+
+/// The format `--out` asks for, from its extension.
+#[derive(Clone, Copy)]
+enum OutFormat {
+    Toml,
+    Csv,
+}
+
+impl OutFormat {
+    fn of(path: &Path) -> anyhow::Result<OutFormat> {
+        let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("");
+        match ext.to_ascii_lowercase().as_str() {
+            "toml" => Ok(OutFormat::Toml),
+            "csv" => Ok(OutFormat::Csv),
+            _ => bail!(
+                "--out {}: the cycle file must end in .toml (cycle file) or .csv (plain table); rename it, e.g. {}",
+                path.display(),
+                path.with_extension("toml").display()
+            ),
+        }
+    }
 }
 
 /// The step table: one row per step, phases as exact fractions of a turn, weights per output.

@@ -12,7 +12,7 @@ use pathsieve::experiment_file::read_experiment;
 use pathsieve::limits::MAX_LISTED_PATHWAYS;
 use pathsieve::pathways::{for_each_row, Pathway, Scope};
 use pathsieve::render::{diagram_svg, leakage, leakage_svg, wheels_svg};
-use pathsieve::safe_write::write_atomic;
+use pathsieve::safe_write::{check_targets, write_atomic};
 use pathsieve::selection::Selection;
 use std::path::PathBuf;
 
@@ -89,6 +89,7 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
             out,
             force,
         } => {
+            check_targets(&[&out], &[&experiment], force)?;
             let exp = read_experiment(&experiment)?;
             let spec = match (&signature, &class) {
                 (Some(s), None) => s.clone(),
@@ -138,6 +139,7 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
             out,
             force,
         } => {
+            check_targets(&[&out], &[&experiment, &cycle], force)?;
             let exp = read_experiment(&experiment)?;
             let c = read_cycle(&cycle, None)?;
             let sel = Selection::new(&exp, &rejection.request())?;
@@ -153,6 +155,7 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
             eprintln!("wrote the leakage chart to {}", out.display());
         }
         Picture::Wheels { cycle, out, force } => {
+            check_targets(&[&out], &[&cycle], force)?;
             let c = read_cycle(&cycle, None)?;
             let title = format!(
                 "{} — {} steps",

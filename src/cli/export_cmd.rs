@@ -6,7 +6,7 @@ use anyhow::{bail, Context};
 use clap::{Args, ValueEnum};
 use pathsieve::cycle::read_cycle;
 use pathsieve::experiment_file::read_experiment;
-use pathsieve::export::mask::{mask_set_csv, mask_set_npy, masks_for_cycle};
+use pathsieve::export::mask::{mask_set_npy, masks_for_cycle, write_mask_set_csv};
 use pathsieve::export::meta::{sha256_hex, sidecar_path, ExportMeta};
 use pathsieve::export::phase_formats::{
     exported_weights, list_json, phases_csv, phases_npy, weights_csv, weights_npy,
@@ -14,7 +14,7 @@ use pathsieve::export::phase_formats::{
 use pathsieve::export::phase_list::{parse_unit_spec, ExportUnit, PhaseList};
 use pathsieve::export::plan::{plan_export, ExportPlan, RowOrder};
 use pathsieve::export::shaper::parse_shaper;
-use pathsieve::safe_write::write_many_atomic;
+use pathsieve::safe_write::{check_targets, write_set_atomic, Content};
 use pathsieve::selection::{Selection, SelectionRequest};
 use std::path::{Path, PathBuf};
 
@@ -77,6 +77,21 @@ pub struct ExportArgs {
     force: bool,
 }
 
+/// Every file this export will write, known from the arguments alone.
+fn planned_outputs(a: &ExportArgs) -> Vec<PathBuf> {
+    let mut v = vec![a.out.clone()];
+    if matches!(a.format, Format::Npy | Format::MaskNpy) {
+        v.push(sidecar_path(&a.out));
+    }
+    if let Some(w) = &a.weights {
+        v.push(w.clone());
+        if w.extension().is_some_and(|e| e.eq_ignore_ascii_case("npy")) {
+            v.push(sidecar_path(w));
+        }
+    }
+    v
+}
+
 fn name_of(p: &Path) -> String {
     p.file_name().map_or_else(
         || p.display().to_string(),
@@ -100,8 +115,13 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
     if !is_mask && a.shaper.is_some() {
         bail!("--shaper goes with --format mask-csv or mask-npy");
     }
-    let exp_bytes = std::fs::read(&a.experiment)
-        .with_context(|| format!("cannot read {}", a.experiment.display()))?;
+    // Every output path is checked before any input is read or anything computed.
+    let outputs = planned_outputs(&a);
+    let targets: Vec<&Path> = outputs.iter().map(PathBuf::as_path).collect();
+    let mut inputs = vec![a.experiment.as_path(), a.cycle.as_path()];
+    inputs.extend(a.shaper.as_deref());
+    check_targets(&targets, &inputs, a.force)?;
+    let exp_bytes = pathsieve::input_text::read_bytes(&a.experiment)?;
     let exp = read_experiment(&a.experiment)?;
     let cycle = read_cycle(&a.cycle, None)?;
     let sel = Selection::new(&exp, &SelectionRequest::default())?;
@@ -154,6 +174,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
     };
     let unit_name = PhaseList::unit_name(unit, grid);
     let mut files: Vec<(PathBuf, Vec<u8>)> = Vec::new();
+    let mut mask_csv = None;
     match a.format {
         Format::Csv => {
             let m = meta_for("phases", unit_name.clone(), notes.clone());
@@ -177,8 +198,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         }
         Format::MaskCsv | Format::MaskNpy => {
             let sp = a.shaper.as_deref().unwrap_or(Path::new(""));
-            let text = std::fs::read_to_string(sp)
-                .with_context(|| format!("cannot read {}", sp.display()))?;
+            let text = pathsieve::input_text::read_text(sp)?;
             let shaper = parse_shaper(&text, sp)?;
             let phases = shaper
                 .step_phases(&list)
@@ -197,9 +217,8 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
             n.push("M(omega) = scale * sum_j a_j exp(i 2pi phi_j) exp(i (omega - omega_0) tau_j); conventions in docs/shaper-masks.md".into());
             if a.format == Format::MaskCsv {
                 let m = meta_for("shaper masks", "turns".into(), n);
-                let mut bytes = m.csv_comments().into_bytes();
-                bytes.extend(mask_set_csv(&set));
-                files.push((a.out.clone(), bytes));
+                // Streamed into the temporary file: at the size limit the text is ~1.6 GB.
+                mask_csv = Some((m.csv_comments(), set));
             } else {
                 n.push(format!(
                     "{} holds the masks, complex128, shape (steps, pixels); pixel frequencies in THz: {}",
@@ -227,8 +246,19 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
             files.push((w.clone(), weights_csv(&list, &m)));
         }
     }
-    write_many_atomic(&files, a.force)?;
-    let names: Vec<String> = files.iter().map(|(p, _)| p.display().to_string()).collect();
+    let mut set: Vec<(PathBuf, Content)> = files
+        .iter()
+        .map(|(p, b)| (p.clone(), Content::Bytes(b.as_slice())))
+        .collect();
+    if let Some((comments, masks)) = &mask_csv {
+        let fill = move |w: &mut dyn std::io::Write| {
+            w.write_all(comments.as_bytes())?;
+            write_mask_set_csv(masks, w)
+        };
+        set.insert(0, (a.out.clone(), Content::Stream(Box::new(fill))));
+    }
+    let names: Vec<String> = set.iter().map(|(p, _)| p.display().to_string()).collect();
+    write_set_atomic(set, a.force)?;
     eprintln!("wrote {} ({} steps)", names.join(", "), list.len());
     if !report.clean {
         eprintln!("warning: the cycle leaks (exact check); run `pathsieve check` for details");

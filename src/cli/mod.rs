@@ -8,6 +8,7 @@ mod draw_cmd;
 mod export_cmd;
 mod output;
 mod pathways_cmd;
+pub mod signals;
 
 use clap::{Parser, Subcommand};
 

@@ -1,11 +1,9 @@
 //! Shared output helpers for the subcommands: stdout writing, JSON, tables, file output.
 
-use anyhow::Context;
 use clap::Args;
 use comfy_table::{presets::UTF8_FULL_CONDENSED, ContentArrangement, Table};
 use pathsieve::selection::{RejectionSource, SelectionRequest};
 use std::io::Write;
-use std::path::Path;
 
 /// Write text to stdout, flushing; a closed pipe surfaces as an io error the caller ignores.
 pub fn print(text: &str) -> anyhow::Result<()> {
@@ -30,21 +28,6 @@ pub fn table(header: &[&str]) -> Table {
         .set_content_arrangement(ContentArrangement::Dynamic)
         .set_header(header.iter().copied());
     t
-}
-
-/// Write bytes to a file without ever leaving a half-written one (temporary file + rename).
-pub fn write_file(path: &Path, bytes: &[u8]) -> anyhow::Result<()> {
-    let dir = path
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let mut tmp = tempfile::NamedTempFile::new_in(dir)
-        .with_context(|| format!("cannot write into directory {}", dir.display()))?;
-    tmp.write_all(bytes)
-        .with_context(|| format!("cannot write {}", path.display()))?;
-    tmp.persist(path)
-        .with_context(|| format!("cannot create {}", path.display()))?;
-    Ok(())
 }
 
 /// Which terms a cycle must cancel: shared by `design` and `check`.

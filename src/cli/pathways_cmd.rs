@@ -1,6 +1,6 @@
 //! `pathsieve pathways`: the enumerator's listing, grouped summary, text and SVG diagrams.
 
-use super::output::{print, print_json, table, write_file};
+use super::output::{print, print_json, table};
 use anyhow::{bail, Context};
 use clap::Args;
 use pathsieve::experiment_file::read_experiment;
@@ -40,6 +40,9 @@ pub struct PathwaysArgs {
     /// Draw the double-sided diagrams of the listed pathways into this SVG file.
     #[arg(long, value_name = "OUT.svg")]
     svg: Option<PathBuf>,
+    /// Overwrite an existing --svg file.
+    #[arg(long)]
+    force: bool,
     /// Machine-readable JSON on stdout instead of tables.
     #[arg(long)]
     json: bool,
@@ -116,6 +119,9 @@ struct PathwayRow {
 
 /// Run the subcommand.
 pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
+    if let Some(svg) = &a.svg {
+        pathsieve::safe_write::check_targets(&[svg], &[&a.file], a.force)?;
+    }
     let exp = read_experiment(&a.file)?;
     if a.through.is_some() && !a.all {
         bail!("--through K goes with --all (every pathway through order K)");
@@ -167,9 +173,10 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
             bail!("no pathway to draw; check --select");
         }
         let title = format!("{} — {} pathways", exp.title, rows.len());
-        write_file(
+        pathsieve::safe_write::write_atomic(
             path,
             diagram_svg::diagrams_svg(&exp, &rows, &title).as_bytes(),
+            a.force,
         )?;
         if !a.json {
             eprintln!("wrote {} diagrams to {}", rows.len(), path.display());

@@ -301,9 +301,9 @@ fn table_text(c: &Combined, sep: &str) -> Result<(String, Vec<String>), String> 
     for i in 0..len {
         let mut row = vec![i.to_string()];
         for o in &c.outputs {
-            row.push(format!("{:?}", o.values[i].re));
+            row.push(crate::numfmt::decimal(o.values[i].re));
             if !o.real {
-                row.push(format!("{:?}", o.values[i].im));
+                row.push(crate::numfmt::decimal(o.values[i].im));
             }
         }
         s.push_str(&row.join(sep));

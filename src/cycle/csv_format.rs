@@ -49,6 +49,7 @@ fn read_directives(text: &str, path: &Path) -> Result<Directives, InputError> {
         unit: None,
         unit_line: None,
     };
+    let mut seen: Vec<(String, usize)> = Vec::new();
     for (i, line) in text.lines().enumerate() {
         let l = line.trim();
         if l.is_empty() {
@@ -61,13 +62,29 @@ fn read_directives(text: &str, path: &Path) -> Result<Directives, InputError> {
             continue;
         };
         let (k, v) = (k.trim().to_ascii_lowercase(), v.trim().to_string());
+        let k = if k == "made by" {
+            "made_by".to_string()
+        } else {
+            k
+        };
+        let known = ["unit", "title", "made_by", "experiment", "grid"];
+        if known.contains(&k.as_str()) {
+            if let Some((_, first)) = seen.iter().find(|(s, _)| *s == k) {
+                return Err(err(
+                    Some(i + 1),
+                    Some(&k),
+                    format!("directive `{k}` is given twice (first on line {first}); keep one"),
+                ));
+            }
+            seen.push((k.clone(), i + 1));
+        }
         match k.as_str() {
             "unit" => {
                 d.unit = Some(parse_unit(&v).map_err(|m| err(Some(i + 1), Some("unit"), m))?);
                 d.unit_line = Some(i + 1);
             }
             "title" => d.meta.title = Some(v),
-            "made_by" | "made by" => d.meta.made_by = Some(v),
+            "made_by" => d.meta.made_by = Some(v),
             "experiment" => d.meta.experiment = Some(v),
             "note" => d.meta.notes.push(v),
             "grid" => {
@@ -76,13 +93,15 @@ fn read_directives(text: &str, path: &Path) -> Result<Directives, InputError> {
                     .filter(|s| !s.is_empty())
                     .map(str::parse)
                     .collect();
-                d.meta.grid = Some(g.map_err(|_| {
+                let g = g.map_err(|_| {
                     err(
                         Some(i + 1),
                         Some("grid"),
                         format!("grid `{v}`: write steps per turn per field, e.g. 1x3x3x3"),
                     )
-                })?);
+                })?;
+                super::bounds::check_grid(&g).map_err(|m| err(Some(i + 1), Some("grid"), m))?;
+                d.meta.grid = Some(g);
             }
             _ => {}
         }
@@ -162,6 +181,7 @@ fn read_header(
             h.fields.push(name);
         }
     }
+    super::bounds::check_outputs(h.outputs.len()).map_err(|m| err(None, m))?;
     if h.fields.is_empty() || h.fields.len() > MAX_FIELDS {
         return Err(err(
             None,
@@ -239,6 +259,8 @@ impl Rows {
         if self.steps.len() >= MAX_STEPS {
             return Err(err(None, format!("more than {MAX_STEPS} steps (the limit); split the table or use a coarser cycle")));
         }
+        super::bounds::check_cells(self.steps.len() + 1, h.columns.len())
+            .map_err(|m| err(None, m))?;
         let cells: Vec<&str> = rec.iter().collect();
         let width = cells
             .iter()
@@ -346,6 +368,9 @@ pub fn write_cycle_csv(cycle: &Cycle) -> String {
     }
     if let Some(e) = &cycle.meta.experiment {
         s.push_str(&format!("# experiment = {e}\n"));
+    }
+    for n in &cycle.meta.notes {
+        s.push_str(&format!("# note = {}\n", n.replace(['\n', '\r'], " ")));
     }
     let mut wtr = csv::WriterBuilder::new().from_writer(Vec::new());
     let mut header = vec!["step".to_string()];

@@ -5,6 +5,7 @@
 //! the data, its exact/float views and [`read_cycle`], which picks the format by extension.
 
 pub mod arrays;
+pub mod bounds;
 pub mod csv_format;
 pub mod dialect;
 pub mod plausible;

@@ -69,6 +69,14 @@ pub fn parse_phase_cell_written(text: &str, unit: PhaseUnit) -> Result<PhaseCell
         Some(rest) => (true, rest),
         None => (false, text.trim()),
     };
+    if let (true, PhaseUnit::Turns, Some(x)) = (approx, unit, plain_float(body)) {
+        // The written form of an approximate phase: the nearest double, as written.
+        return Ok(PhaseCell {
+            phase: Phase::Approx(x),
+            half_width: None,
+            raw_turns: x,
+        });
+    }
     let w = parse_phase_written(body, unit).map_err(|e| e.to_string())?;
     let half_width = (!approx).then_some(w.half_width_turns);
     let (phase, raw_turns) = match w.value {
@@ -89,6 +97,30 @@ pub fn parse_phase_cell_written(text: &str, unit: PhaseUnit) -> Result<PhaseCell
     })
 }
 
+/// A plain decimal (`-0.25`, `1e-7`, no expression) as the correctly rounded double.
+fn plain_float(text: &str) -> Option<f64> {
+    let ok = !text.is_empty()
+        && text
+            .bytes()
+            .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'e' | b'E'));
+    ok.then(|| text.parse::<f64>().ok())
+        .flatten()
+        .filter(|x| x.is_finite())
+}
+
+/// `a+bi` / `a-bi` with plain decimals (the written form of an approximate weight) as the
+/// correctly rounded pair.
+fn plain_complex(text: &str) -> Option<Complex64> {
+    let body = text.strip_suffix('i')?;
+    let bytes = body.as_bytes();
+    let split = (1..bytes.len())
+        .rev()
+        .find(|&k| matches!(bytes[k], b'+' | b'-') && !matches!(bytes[k - 1], b'e' | b'E'))?;
+    let re = plain_float(&body[..split])?;
+    let im = plain_float(&body[split..])?;
+    Some(Complex64::new(re, im))
+}
+
 /// Parse one weight cell. A leading `~` marks the value approximate whatever its form.
 pub fn parse_weight_cell(text: &str) -> Result<Weight, String> {
     parse_weight_cell_written(text).map(|(w, _)| w)
@@ -100,6 +132,9 @@ pub fn parse_weight_cell_written(text: &str) -> Result<(Weight, Option<f64>), St
         Some(rest) => (true, rest),
         None => (false, text.trim()),
     };
+    if let (true, Some(z)) = (approx, plain_complex(body)) {
+        return Ok((Weight::Approx(z), None));
+    }
     let w = parse_weight_written(body).map_err(|e| e.to_string())?;
     let radius = (!approx).then_some(w.radius);
     let weight = match w.value {
@@ -121,7 +156,7 @@ pub fn format_phase(p: &Phase) -> String {
                 format!("{}/{}", t.numer(), t.denom())
             }
         }
-        Phase::Approx(x) => format!("~{x:?}"),
+        Phase::Approx(x) => format!("~{}", crate::numfmt::decimal(*x)),
     }
 }
 
@@ -168,7 +203,8 @@ fn format_cyclo(c: &Cyclo) -> String {
 
 fn format_complex_approx(z: Complex64) -> String {
     let sign = if z.im < 0.0 { "-" } else { "+" };
-    format!("~{:?}{sign}{:?}i", z.re, z.im.abs())
+    use crate::numfmt::decimal;
+    format!("~{}{sign}{}i", decimal(z.re), decimal(z.im.abs()))
 }
 
 #[cfg(test)]

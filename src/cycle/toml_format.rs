@@ -106,6 +106,7 @@ pub fn read_cycle_toml(
     unit_override: Option<PhaseUnit>,
 ) -> Result<Cycle, InputError> {
     let ctx = Ctx { text, path };
+    super::bounds::scan_toml_values(text, path)?;
     let raw: RawFile = toml::from_str(text).map_err(|e| {
         let line = e.span().map(|s| ctx.line(s));
         InputError::new(
@@ -117,6 +118,13 @@ pub fn read_cycle_toml(
     })?;
     let cyc_span = raw.cycle.span();
     let c = raw.cycle.into_inner();
+    if let Some(g) = &c.grid {
+        super::bounds::check_grid(g).map_err(|m| ctx.err(cyc_span.clone(), "cycle.grid", m))?;
+    }
+    if let Some(extra) = raw.output.get(crate::limits::MAX_OUTPUTS) {
+        let m = super::bounds::check_outputs(raw.output.len()).unwrap_err();
+        return Err(ctx.err(extra.span(), "output", m));
+    }
     let declared = match &c.unit {
         Some(u) => Some(parse_unit(u.get_ref()).map_err(|m| ctx.err(u.span(), "cycle.unit", m))?),
         None => None,
@@ -183,6 +191,8 @@ pub fn read_cycle_toml(
             format!("{} steps exceed the limit of {MAX_STEPS}", rows.len()),
         ));
     }
+    super::bounds::check_cells(rows.len(), fields.len() + raw.output.len())
+        .map_err(|m| ctx.err(cyc_span.clone(), "cycle.steps", m))?;
     let mut steps = Vec::with_capacity(rows.len());
     let mut half_widths = Vec::with_capacity(rows.len());
     let mut raw_turns = vec![Vec::with_capacity(rows.len()); fields.len()];
@@ -266,6 +276,9 @@ pub fn read_cycle_toml(
             (None, Some(s)) => {
                 let sspan = s.span();
                 let s = s.into_inner();
+                super::bounds::check_signature(&s).map_err(|m| {
+                    ctx.err(sspan.clone(), &format!("output {name}.from_signature"), m)
+                })?;
                 if s.len() != fields.len() {
                     return Err(ctx.err(
                         sspan,

@@ -340,7 +340,18 @@ impl Cyclo {
             let v = Q::new(c.clone(), self.den.clone())
                 .to_f64()
                 .unwrap_or(f64::NAN);
-            z += Complex64::from_polar(v, std::f64::consts::TAU * k as f64 / n);
+            // Quarter turns exactly (1, i, -1, -i): from_polar would put cos(pi/2) = 6e-17
+            // into the real part of `-i`.
+            z += match (
+                4 * k as u64 % u64::from(self.order),
+                4 * k as u64 / u64::from(self.order),
+            ) {
+                (0, 0) => Complex64::new(v, 0.0),
+                (0, 1) => Complex64::new(0.0, v),
+                (0, 2) => Complex64::new(-v, 0.0),
+                (0, _) => Complex64::new(0.0, -v),
+                _ => Complex64::from_polar(v, std::f64::consts::TAU * k as f64 / n),
+            };
         }
         z
     }

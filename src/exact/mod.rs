@@ -115,3 +115,11 @@ pub(crate) fn lcm_order(a: u32, b: u32) -> Result<u32, ExactError> {
     let l = num_integer::lcm(a as u64, b as u64);
     check_order(l)
 }
+
+/// Least common multiple of two `u64`, or `None` when it does not fit (never wraps).
+pub fn checked_lcm_u64(a: u64, b: u64) -> Option<u64> {
+    if a == 0 || b == 0 {
+        return Some(0);
+    }
+    (a / num_integer::gcd(a, b)).checked_mul(b)
+}

@@ -90,6 +90,12 @@ pub enum PhaseParseError {
     /// Nothing to read.
     #[error("empty phase; {PHASE_FORMS}")]
     Empty,
+    /// An approximate value beyond double precision (e.g. `exp(1000)`).
+    #[error("phase '{text}' is not a finite number in double precision; give a phase between -1e300 and 1e300 (e.g. 0.25 or 90 deg)")]
+    NotFinite {
+        /// The text.
+        text: String,
+    },
     /// Text above the length limit.
     #[error("phase text of {len} characters exceeds the limit of {max}")]
     TooLong {
@@ -143,6 +149,12 @@ pub enum WeightParseError {
     /// Nothing to read.
     #[error("empty weight; expected e.g. 1, -1, i, 1/2+1/2i, -1/27 or exp(-i*2*pi/3)")]
     Empty,
+    /// A value beyond double precision (e.g. `exp(1000)`): its verdicts would be NaN.
+    #[error("weight '{text}' overflows double precision (|w| must stay below about 1.8e308); scale the weights down, e.g. divide them all by their largest")]
+    NotFinite {
+        /// The text.
+        text: String,
+    },
     /// Text above the length limit.
     #[error("weight text of {len} characters exceeds the limit of {max}")]
     TooLong {
@@ -316,6 +328,9 @@ pub fn parse_phase_written(text: &str, unit: PhaseUnit) -> Result<WrittenPhase, 
             } else {
                 x * q_to_f64(&factor)
             };
+            if !turns.is_finite() {
+                return Err(PhaseParseError::NotFinite { text: owned() });
+            }
             Ok(PhaseValue::Approx { turns })
         }
     }?;
@@ -362,6 +377,9 @@ pub fn parse_weight_written(text: &str) -> Result<WrittenWeight, WeightParseErro
     })?;
     if v.pi_pow != 0 {
         return Err(WeightParseError::PiOutsideExp { text: owned() });
+    }
+    if !(v.approx.re.is_finite() && v.approx.im.is_finite()) {
+        return Err(WeightParseError::NotFinite { text: owned() });
     }
     let value = match v.exact {
         Some(c) if !v.rounded_literal => WeightValue::Exact(c),

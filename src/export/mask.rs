@@ -7,8 +7,6 @@
 //! `E(t) = (1/2 pi) integral E(omega) exp(-i omega t) d omega`, the factor exp(+i omega tau)
 //! delays a pulse by +tau. The full statement of the conventions is docs/shaper-masks.md.
 
-use std::fmt::Write as _;
-
 use num_complex::Complex64;
 
 use super::npy::{npy_c128, NpyError};
@@ -384,31 +382,47 @@ pub const CSV_COLUMNS: &str = "step,pixel,freq_thz,amplitude,phase_rad,re,im";
 /// in (-pi, pi], `re`/`im` the same value in Cartesian form. Numbers use the shortest text that
 /// reads back to the identical f64. Format documented in docs/shaper-masks.md.
 pub fn mask_set_csv(set: &MaskSet) -> Vec<u8> {
+    let mut out = Vec::new();
+    // Writing into a Vec cannot fail.
+    let _ = write_mask_set_csv(set, &mut out);
+    out
+}
+
+/// [`mask_set_csv`] streamed into `w` row by row, so a set at the size limit (2^24 values) is
+/// never held as text in memory. Floats in the shortest positional form that reads back
+/// identical ([`crate::numfmt::decimal`]).
+///
+/// # Errors
+/// Any error of `w`.
+pub fn write_mask_set_csv(set: &MaskSet, w: &mut dyn std::io::Write) -> std::io::Result<()> {
+    use crate::numfmt::decimal;
     let frame = match set.rotating_frame_thz {
-        Some(f) => format!("{f:?}"),
+        Some(f) => decimal(f),
         None => "none".to_string(),
     };
-    let mut s = format!(
-        "# pathsieve shaper masks v1; steps={}; pixels={}; scale={:?}; \
+    writeln!(
+        w,
+        "# pathsieve shaper masks v1; steps={}; pixels={}; scale={}; \
          rotating_frame_thz={frame}; convention=M(omega)=sum_j a_j exp(i 2pi phi_j) \
-         exp(i (omega-omega_0) tau_j), see docs/shaper-masks.md\n{CSV_COLUMNS}\n",
+         exp(i (omega-omega_0) tau_j), see docs/shaper-masks.md\n{CSV_COLUMNS}",
         set.masks.len(),
         set.freqs_thz.len(),
-        set.scale,
-    );
+        decimal(set.scale),
+    )?;
     for (m, mask) in set.masks.iter().enumerate() {
         for (k, (z, nu)) in mask.iter().zip(&set.freqs_thz).enumerate() {
-            let _ = writeln!(
-                s,
-                "{m},{k},{nu:?},{:?},{:?},{:?},{:?}",
-                z.norm(),
-                z.arg(),
-                z.re,
-                z.im
-            );
+            writeln!(
+                w,
+                "{m},{k},{},{},{},{},{}",
+                decimal(*nu),
+                decimal(z.norm()),
+                decimal(z.arg()),
+                decimal(z.re),
+                decimal(z.im)
+            )?;
         }
     }
-    s.into_bytes()
+    Ok(())
 }
 
 /// NPY bytes for a mask set: a complex128 array of shape (steps, pixels), C order.

@@ -317,7 +317,7 @@ fn csv_has_metadata_header_and_consistent_rows() {
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines.len(), 2 + 3 * 5);
     assert!(lines[0].starts_with("# pathsieve shaper masks v1; steps=3; pixels=5; scale="));
-    assert!(lines[0].contains("rotating_frame_thz=371.0"));
+    assert!(lines[0].contains("rotating_frame_thz=371;"));
     assert_eq!(lines[1], CSV_COLUMNS);
     let mut rdr = csv::ReaderBuilder::new()
         .comment(Some(b'#'))

@@ -13,7 +13,7 @@ use std::fmt::Write as _;
 
 fn cell_text(c: &Cell) -> String {
     match c {
-        Cell::Float(x) => format!("{x:?}"),
+        Cell::Float(x) => crate::numfmt::decimal(*x),
         Cell::Index(k) => k.to_string(),
     }
 }
@@ -64,7 +64,8 @@ pub fn weights_csv(list: &PhaseList, meta: &ExportMeta) -> Vec<u8> {
     for (m, (w, t)) in list.weights.iter().zip(&list.weight_texts).enumerate() {
         let _ = write!(s, "{m}");
         for (z, text) in w.iter().zip(t) {
-            let _ = write!(s, ",{:?},{:?},{}", z.re, z.im, csv_name(text));
+            let (re, im) = (crate::numfmt::decimal(z.re), crate::numfmt::decimal(z.im));
+            let _ = write!(s, ",{re},{im},{}", csv_name(text));
         }
         s.push('\n');
     }

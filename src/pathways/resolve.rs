@@ -60,11 +60,21 @@ struct Carried {
 /// Resolve every wanted signal of the experiment. Classes are read from the time-ordered
 /// pathways; pathways that only overlapping pulses allow are counted apart ([`Reordered`]).
 pub fn resolve_signals(exp: &Experiment) -> Result<Vec<ResolvedSignal>, ModelError> {
+    use super::summary::{check_nmr_signatures, too_many, MAX_SUMMARY_SIGNATURES};
+    check_nmr_signatures(exp, Scope::Signal)?;
     let mut carried = Carried {
         classes: BTreeMap::new(),
         reordered: BTreeMap::new(),
     };
+    let mut overflow = false;
     for_each_pathway(exp, Scope::Signal, |p| {
+        let known = carried.classes.contains_key(&p.signature)
+            || carried.reordered.contains_key(&p.signature);
+        let held = (carried.classes.len() + carried.reordered.len()) as u64;
+        if !known && held >= MAX_SUMMARY_SIGNATURES {
+            overflow = true;
+            return;
+        }
         if p.time_ordered {
             *carried
                 .classes
@@ -76,6 +86,9 @@ pub fn resolve_signals(exp: &Experiment) -> Result<Vec<ResolvedSignal>, ModelErr
             *carried.reordered.entry(p.signature.clone()).or_insert(0) += 1;
         }
     })?;
+    if overflow {
+        return Err(too_many(MAX_SUMMARY_SIGNATURES + 1));
+    }
     let mut out = Vec::new();
     for w in &exp.wanted {
         let (kept, classes) = kept_signatures(exp, w, &carried)?;

@@ -1,5 +1,7 @@
 //! The grouped summary: pathways counted per signature, streamed so that memory grows with the
-//! number of distinct signatures, never with the number of pathways.
+//! number of distinct signatures, never with the number of pathways. That number is bounded
+//! too ([`MAX_SUMMARY_SIGNATURES`]): before work for NMR, where every coherence path has its own
+//! signature, and while streaming otherwise.
 
 use super::{for_each_pathway, Pathway, Scope};
 use crate::error::ModelError;
@@ -31,6 +33,32 @@ pub struct SignatureSummary {
     pub wanted_by: Vec<String>,
 }
 
+/// Largest number of distinct signatures a summary holds (each entry takes a few hundred
+/// bytes, so about 200 MB at the limit).
+pub const MAX_SUMMARY_SIGNATURES: u64 = 500_000;
+
+/// Refuse before work an NMR enumeration whose distinct signatures (one per coherence path)
+/// exceed [`MAX_SUMMARY_SIGNATURES`].
+pub(crate) fn check_nmr_signatures(exp: &Experiment, scope: Scope) -> Result<(), ModelError> {
+    if let crate::model::Detection::Nmr { .. } = exp.detection {
+        let paths = super::size::pathway_bound(exp, scope);
+        if paths > MAX_SUMMARY_SIGNATURES as f64 {
+            return Err(too_many(paths.min(u64::MAX as f64) as u64));
+        }
+    }
+    Ok(())
+}
+
+/// The error for more than [`MAX_SUMMARY_SIGNATURES`] distinct signatures.
+pub(crate) fn too_many(value: u64) -> ModelError {
+    ModelError::TooLarge {
+        what: "the number of distinct signatures in the summary".into(),
+        value,
+        limit: MAX_SUMMARY_SIGNATURES,
+        hint: "each needs memory of its own; lower max_coherence or the number of pulses (NMR), or the order".into(),
+    }
+}
+
 /// The summary of an enumeration.
 #[derive(Clone, Debug, Serialize)]
 pub struct Summary {
@@ -50,8 +78,10 @@ pub fn summarize(
     conjugates: bool,
     wanted: &[(String, Vec<Signature>)],
 ) -> Result<Summary, ModelError> {
+    check_nmr_signatures(exp, scope)?;
     let mut map: BTreeMap<Signature, SignatureSummary> = BTreeMap::new();
     let mut total = 0u64;
+    let mut overflow = false;
     let add_conjugates = conjugates && needs_conjugate_rows(exp);
     let mut add = |p: &Pathway, conj: bool| {
         total += 1;
@@ -60,6 +90,10 @@ pub fn summarize(
         } else {
             p.signature.clone()
         };
+        if map.len() as u64 >= MAX_SUMMARY_SIGNATURES && !map.contains_key(&signature) {
+            overflow = true;
+            return;
+        }
         let entry = map
             .entry(signature)
             .or_insert_with_key(|signature| SignatureSummary {
@@ -89,6 +123,9 @@ pub fn summarize(
             add(p, true);
         }
     })?;
+    if overflow {
+        return Err(too_many(MAX_SUMMARY_SIGNATURES + 1));
+    }
     let mut signatures: Vec<SignatureSummary> = map.into_values().collect();
     signatures.sort_by(|a, b| {
         a.signature

@@ -15,7 +15,9 @@ use crate::exact::cyclo::{Cyclo, Q};
 use crate::exact::ExactError;
 
 /// Longest accepted text, checked before any work.
-pub(crate) const MAX_TEXT: usize = 256;
+/// Long enough for any `f64` in positional notation, twice (an approximate complex weight
+/// `~re+imi` of two subnormals is 656 characters), since writers never use exponents.
+pub(crate) const MAX_TEXT: usize = 1024;
 /// Deepest accepted nesting of parentheses, `exp` and unary signs.
 const MAX_DEPTH: usize = 32;
 

@@ -120,7 +120,7 @@ fn phase_errors() {
         parse_phase(&huge, Turns),
         Err(PhaseParseError::TooLarge { .. })
     ));
-    let long = "1".repeat(300);
+    let long = "1".repeat(1100);
     assert!(matches!(
         parse_phase(&long, Turns),
         Err(PhaseParseError::TooLong { .. })
