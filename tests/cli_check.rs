@@ -19,6 +19,7 @@ fn the_nested_cycle_is_clean_and_exits_zero_with_json() {
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["schema_version"], 1);
     assert_eq!(v["clean"], true);
     assert_eq!(v["first_leak_order"], 6);
     assert_eq!(v["outputs"].as_array().unwrap().len(), 3);

@@ -197,6 +197,7 @@ fn the_drift_order_is_a_recorded_permutation() {
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(&j).unwrap()).unwrap();
+    assert_eq!(v["schema_version"], 1);
     let mut src: Vec<u64> = v["meta"]["source_steps"]
         .as_array()
         .unwrap()

@@ -41,15 +41,5 @@ pub fn array_columns(a: &PyReadonlyArray2<'_, Complex64>) -> Vec<Vec<Complex64>>
 /// A phase unit: `turns`, `deg`/`degrees`, `rad`/`radians`, or `index:M` (also `grid:M`),
 /// integer steps of an M-step grid.
 pub fn unit(text: &str) -> PyResult<PhaseUnit> {
-    let t = text.trim();
-    let grid = t
-        .strip_prefix("index:")
-        .map(|m| format!("grid:{m}"))
-        .unwrap_or_else(|| t.to_string());
-    parse_unit(&grid).map_err(|m| {
-        lib_err(format!(
-            "unit: {}; the units are turns, deg, rad and index:M",
-            m.replace("grid:M", "index:M")
-        ))
-    })
+    parse_unit(text).map_err(|m| lib_err(format!("unit: {m}")))
 }

@@ -10,7 +10,7 @@ use numpy::{PyArray1, PyArray2};
 use pathsieve::export::mask::masks_for_cycle;
 use pathsieve::export::meta::ExportMeta;
 use pathsieve::export::phase_formats::exported_weights;
-use pathsieve::export::phase_list::{Cell, ExportUnit, PhaseList};
+use pathsieve::export::phase_list::{parse_unit_spec, Cell, ExportUnit, PhaseList};
 use pathsieve::export::plan::{plan_export, ExportPlan, RowOrder};
 use pathsieve::export::shaper::parse_shaper;
 use pathsieve::input_text::read_text;
@@ -47,20 +47,10 @@ fn row_order(order: &str) -> PyResult<RowOrder> {
     }
 }
 
-/// The unit and index grid of an export: `turns`, `deg`, `rad`, `index` (the cycle's grid) or
-/// `index:M`.
+/// The unit and index grid of an export: the library's one vocabulary (`turns`, `deg`, `rad`,
+/// `index`, `index:M`).
 fn export_unit(text: &str) -> PyResult<(ExportUnit, Option<u64>)> {
-    let t = text.trim().to_ascii_lowercase();
-    if let Some(m) = t.strip_prefix("index:").or_else(|| t.strip_prefix("grid:")) {
-        let m = m.trim().parse::<u64>().map_err(|_| {
-            lib_err(format!(
-                "unit `{text}`: index:M needs a positive step count M, e.g. index:8"
-            ))
-        })?;
-        return Ok((ExportUnit::Index, Some(m)));
-    }
-    let u = ExportUnit::parse(&t).map_err(|m| lib_err(format!("unit: {m}; or index:M")))?;
-    Ok((u, None))
+    parse_unit_spec(text).map_err(lib_err)
 }
 
 fn plan(

@@ -27,9 +27,10 @@ pub(crate) fn lib_err(e: impl std::fmt::Display) -> PyErr {
     PathsieveError::new_err(e.to_string())
 }
 
-/// JSON text of a serialisable library result (the wrapper parses it into dicts and lists).
+/// JSON text of a serialisable library result with its `schema_version` key, as the command
+/// line prints it (the wrapper parses it into dicts and lists).
 pub(crate) fn to_json<T: serde::Serialize>(value: &T) -> PyResult<String> {
-    serde_json::to_string(value).map_err(lib_err)
+    serde_json::to_string(&pathsieve::export::meta::versioned(value)).map_err(lib_err)
 }
 
 /// The native half of the `pathsieve` Python package.

@@ -31,8 +31,8 @@ pub struct CheckArgs {
     /// Search the first leak up to this order (default: order + 4).
     #[arg(long, value_name = "K")]
     leak_search: Option<u32>,
-    /// Phase unit of the table when the file does not declare one: turns, degrees, radians,
-    /// grid:M.
+    /// Phase unit of the table when the file does not declare one: turns, deg, rad or index:M
+    /// (grid:M).
     #[arg(long, value_name = "UNIT")]
     unit: Option<String>,
     /// Never snap approximate phases to fractions; evaluate them numerically (not exact).

@@ -11,6 +11,8 @@ use pathsieve::design::lattice::SearchControl;
 use pathsieve::design::lattice_stage::ClassLayout;
 use pathsieve::design::{cycled_fields, design, DesignOptions, DesignReport};
 use pathsieve::experiment_file::read_experiment;
+use pathsieve::export::phase_formats::{flat_cycle, FlatCycle};
+use pathsieve::export::phase_list::{parse_unit_spec, ExportUnit, PhaseList};
 use pathsieve::render::design_summary;
 use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
@@ -55,9 +57,13 @@ pub struct DesignArgs {
     /// Overwrite an existing output file.
     #[arg(long)]
     force: bool,
-    /// Machine-readable JSON on stdout.
+    /// Machine-readable JSON on stdout, with the cycle as a flat object (phases in --unit and
+    /// as exact turns, weights as re/im and exact texts).
     #[arg(long)]
     json: bool,
+    /// Unit of the phases in the JSON cycle: turns, deg, rad, index or index:M.
+    #[arg(long, value_name = "UNIT", default_value = "turns")]
+    unit: String,
 }
 
 #[derive(Serialize)]
@@ -65,11 +71,12 @@ struct JsonOut<'a> {
     #[serde(flatten)]
     report: &'a DesignReport,
     summary: String,
-    cycle: Option<&'a Cycle>,
+    cycle: Option<FlatCycle<'a>>,
 }
 
 /// Run the subcommand.
 pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
+    let (unit, grid) = parse_unit_spec(&a.unit).map_err(|m| anyhow::anyhow!("--unit: {m}"))?;
     if a.max_steps == 0 {
         bail!("--max-steps must be at least 1");
     }
@@ -150,10 +157,23 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         }
     }
     if a.json {
+        let flat = match &cycle {
+            Some(c) => {
+                let list = PhaseList::from_cycle(c)?;
+                let m = match unit {
+                    ExportUnit::Index => list.index_grid(grid)?,
+                    _ => 0,
+                };
+                Some((list.cells(unit, m)?, PhaseList::unit_name(unit, m), list))
+            }
+            None => None,
+        };
         print_json(&JsonOut {
             report: &report,
             summary: design_summary::summary(&report),
-            cycle: cycle.as_ref(),
+            cycle: flat
+                .as_ref()
+                .map(|(cells, name, list)| flat_cycle(list, cells, name)),
         })?;
         return Ok(code);
     }

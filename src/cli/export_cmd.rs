@@ -11,7 +11,7 @@ use pathsieve::export::meta::{sha256_hex, sidecar_path, ExportMeta};
 use pathsieve::export::phase_formats::{
     exported_weights, list_json, phases_csv, phases_npy, weights_csv, weights_npy,
 };
-use pathsieve::export::phase_list::{ExportUnit, PhaseList};
+use pathsieve::export::phase_list::{parse_unit_spec, ExportUnit, PhaseList};
 use pathsieve::export::plan::{plan_export, ExportPlan, RowOrder};
 use pathsieve::export::shaper::parse_shaper;
 use pathsieve::safe_write::{check_targets, write_set_atomic, Content};
@@ -52,10 +52,12 @@ pub struct ExportArgs {
     /// Output format.
     #[arg(long, value_enum)]
     format: Format,
-    /// Phase unit of phase lists: turns, deg, rad or index (grid indices; needs a grid).
+    /// Phase unit of phase lists: turns, deg, rad, index (grid indices on the cycle's grid) or
+    /// index:M (indices on an M-step grid).
     #[arg(long, value_name = "UNIT", default_value = "turns")]
     unit: String,
-    /// Grid (steps per turn) for --unit index (default: the lcm of the cycle's grid).
+    /// Grid (steps per turn) for --unit index (default: the lcm of the cycle's grid); same as
+    /// --unit index:M.
     #[arg(long, value_name = "M")]
     grid: Option<u64>,
     /// Output file.
@@ -99,7 +101,13 @@ fn name_of(p: &Path) -> String {
 
 /// Run the subcommand.
 pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
-    let unit = ExportUnit::parse(&a.unit).map_err(|m| anyhow::anyhow!("--unit: {m}"))?;
+    let (unit, unit_grid) = parse_unit_spec(&a.unit).map_err(|m| anyhow::anyhow!("--unit: {m}"))?;
+    let index_grid = match (unit_grid, a.grid) {
+        (Some(m), Some(g)) if m != g => {
+            bail!("--unit index:{m} and --grid {g} disagree; give the grid once")
+        }
+        (m, g) => m.or(g),
+    };
     let is_mask = matches!(a.format, Format::MaskCsv | Format::MaskNpy);
     if is_mask && a.shaper.is_none() {
         bail!("--format mask-csv/mask-npy needs --shaper shaper.toml (docs/export-formats.md)");
@@ -133,7 +141,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         )
     })?;
     let grid = match unit {
-        ExportUnit::Index => list.index_grid(a.grid)?,
+        ExportUnit::Index => list.index_grid(index_grid)?,
         _ => {
             if a.grid.is_some() {
                 bail!("--grid goes with --unit index");

@@ -13,9 +13,10 @@ pub fn print(text: &str) -> anyhow::Result<()> {
     Ok(())
 }
 
-/// Pretty JSON of a serialisable value, with a trailing newline, to stdout.
+/// Pretty JSON of a serialisable value (a struct or map), with the `schema_version` key
+/// first and a trailing newline, to stdout.
 pub fn print_json<T: serde::Serialize>(value: &T) -> anyhow::Result<()> {
-    let mut s = serde_json::to_string_pretty(value)?;
+    let mut s = serde_json::to_string_pretty(&pathsieve::export::meta::versioned(value))?;
     s.push('\n');
     print(&s)
 }

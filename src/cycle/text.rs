@@ -10,7 +10,8 @@ use num_complex::Complex64;
 use super::{Phase, Weight};
 
 /// Parse a unit name as written in cycle files and on the command line:
-/// `turns`, `degrees` (`deg`), `radians` (`rad`) or `grid:M` (step indices of an M-step grid).
+/// `turns`, `degrees` (`deg`), `radians` (`rad`) or `index:M` / `grid:M` (step indices of an
+/// M-step grid).
 pub fn parse_unit(text: &str) -> Result<PhaseUnit, String> {
     let t = text.trim().to_ascii_lowercase();
     match t.as_str() {
@@ -18,16 +19,16 @@ pub fn parse_unit(text: &str) -> Result<PhaseUnit, String> {
         "degrees" | "degree" | "deg" => Ok(PhaseUnit::Degrees),
         "radians" | "radian" | "rad" => Ok(PhaseUnit::Radians),
         _ => {
-            if let Some(m) = t.strip_prefix("grid:") {
+            if let Some(m) = t.strip_prefix("grid:").or_else(|| t.strip_prefix("index:")) {
                 match m.trim().parse::<u32>() {
                     Ok(m) if m > 0 => Ok(PhaseUnit::GridIndex(m)),
                     _ => Err(format!(
-                        "unit `{text}`: grid:M needs a positive step count M, e.g. grid:8"
+                        "unit `{text}`: index:M needs a positive step count M, e.g. index:8"
                     )),
                 }
             } else {
                 Err(format!(
-                    "unknown phase unit `{text}`; use turns, degrees, radians or grid:M"
+                    "unknown phase unit `{text}`; use turns, degrees (deg), radians (rad) or index:M (grid:M)"
                 ))
             }
         }

@@ -9,6 +9,28 @@ use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
 
+/// Layout version of every JSON document pathsieve writes (reports on stdout, exports,
+/// sidecars): the `schema_version` key. Raised when a key changes meaning or goes away.
+pub const SCHEMA_VERSION: u32 = 1;
+
+/// A JSON document with its `schema_version` key first, then the body's own keys.
+#[derive(Serialize)]
+pub struct Versioned<'a, T: Serialize + ?Sized> {
+    /// [`SCHEMA_VERSION`].
+    pub schema_version: u32,
+    /// The document's own keys (a struct or map).
+    #[serde(flatten)]
+    pub body: &'a T,
+}
+
+/// `body` with the current [`SCHEMA_VERSION`].
+pub fn versioned<T: Serialize + ?Sized>(body: &T) -> Versioned<'_, T> {
+    Versioned {
+        schema_version: SCHEMA_VERSION,
+        body,
+    }
+}
+
 /// Provenance and layout of one export.
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
 pub struct ExportMeta {
@@ -101,9 +123,10 @@ impl ExportMeta {
         s
     }
 
-    /// The metadata as pretty JSON bytes (the NPY sidecar), with a trailing newline.
+    /// The metadata as pretty JSON bytes (the NPY sidecar), with a trailing newline and the
+    /// `schema_version` key first.
     pub fn json_bytes(&self) -> Vec<u8> {
-        let mut s = serde_json::to_string_pretty(self).unwrap_or_else(|_| "{}".into());
+        let mut s = serde_json::to_string_pretty(&versioned(self)).unwrap_or_else(|_| "{}".into());
         s.push('\n');
         s.into_bytes()
     }

@@ -72,24 +72,30 @@ pub fn weights_csv(list: &PhaseList, meta: &ExportMeta) -> Vec<u8> {
     s.into_bytes()
 }
 
+/// The weights of one output in the flat JSON form.
 #[derive(Serialize)]
-struct JsonWeights<'a> {
+pub struct JsonWeights<'a> {
     name: &'a str,
     re: Vec<f64>,
     im: Vec<f64>,
     exact: Vec<&'a str>,
 }
 
+/// One phase in the flat JSON form: a float, or an integer grid index.
 #[derive(Serialize)]
 #[serde(untagged)]
-enum JsonCell {
+pub enum JsonCell {
+    /// Turns, degrees or radians.
     F(f64),
+    /// A grid index.
     I(i64),
 }
 
+/// A cycle as flat JSON: `{"fields": [...], "unit": "...", "phases": [[...]], "phases_turns":
+/// [["p/q", ...]], "outputs": [{"name", "re": [...], "im": [...], "exact": [...]}]}`, rows in
+/// the list's order. The body of the JSON export and the `cycle` of `design --json`.
 #[derive(Serialize)]
-struct JsonList<'a> {
-    meta: &'a ExportMeta,
+pub struct FlatCycle<'a> {
     fields: &'a [String],
     unit: &'a str,
     /// N x fields in `unit`.
@@ -99,14 +105,31 @@ struct JsonList<'a> {
     outputs: Vec<JsonWeights<'a>>,
 }
 
-/// JSON: `{"meta": {...}, "fields": [...], "unit": "...", "phases": [[...]], "phases_turns":
-/// [["p/q", ...]], "outputs": [{"name", "re": [...], "im": [...], "exact": [...]}]}` with a
-/// trailing newline. Rows are in export order.
+#[derive(Serialize)]
+struct JsonList<'a> {
+    meta: &'a ExportMeta,
+    #[serde(flatten)]
+    cycle: FlatCycle<'a>,
+}
+
+/// JSON: `{"schema_version": 1, "meta": {...}, ` then the [`FlatCycle`] keys, with a trailing
+/// newline. Rows are in export order.
 pub fn list_json(list: &PhaseList, cells: &[Vec<Cell>], meta: &ExportMeta) -> Vec<u8> {
     let doc = JsonList {
         meta,
+        cycle: flat_cycle(list, cells, &meta.unit),
+    };
+    let mut s =
+        serde_json::to_string_pretty(&super::meta::versioned(&doc)).unwrap_or_else(|_| "{}".into());
+    s.push('\n');
+    s.into_bytes()
+}
+
+/// The flat JSON form of `list` with its phases as `cells` in the unit named `unit`.
+pub fn flat_cycle<'a>(list: &'a PhaseList, cells: &[Vec<Cell>], unit: &'a str) -> FlatCycle<'a> {
+    FlatCycle {
         fields: &list.fields,
-        unit: &meta.unit,
+        unit,
         phases: cells
             .iter()
             .map(|r| {
@@ -134,10 +157,7 @@ pub fn list_json(list: &PhaseList, cells: &[Vec<Cell>], meta: &ExportMeta) -> Ve
                 exact: list.weight_texts.iter().map(|t| t[o].as_str()).collect(),
             })
             .collect(),
-    };
-    let mut s = serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into());
-    s.push('\n');
-    s.into_bytes()
+    }
 }
 
 /// Phases as NPY: shape (N, fields), `<i8` when the cells are grid indices, else `<f8`.

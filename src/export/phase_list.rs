@@ -45,6 +45,27 @@ impl ExportUnit {
     }
 }
 
+/// Parse a unit of the one vocabulary every command takes: `turns`, `deg`, `rad`, `index`
+/// (grid indices on the cycle's own grid) or `index:M` (also `grid:M`): indices on an M-step
+/// grid, returned as the grid.
+///
+/// # Errors
+/// A message naming the text and the valid choices.
+pub fn parse_unit_spec(text: &str) -> Result<(ExportUnit, Option<u64>), String> {
+    let t = text.trim().to_ascii_lowercase();
+    if let Some(m) = t.strip_prefix("index:").or_else(|| t.strip_prefix("grid:")) {
+        return match m.trim().parse::<u64>() {
+            Ok(m) if (1..=MAX_INDEX_GRID).contains(&m) => Ok((ExportUnit::Index, Some(m))),
+            _ => Err(format!(
+                "unit `{text}`: index:M needs a step count M from 1 to {MAX_INDEX_GRID}, e.g. index:8"
+            )),
+        };
+    }
+    ExportUnit::parse(&t)
+        .map(|u| (u, None))
+        .map_err(|_| format!("unknown unit `{text}`; use turns, deg, rad, index or index:M"))
+}
+
 /// Why a phase list could not be made.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum ExportError {
@@ -359,4 +380,19 @@ fn derived_grid(cycle: &Cycle) -> Option<Vec<u64>> {
         }
     }
     Some(g)
+}
+
+#[cfg(test)]
+mod unit_tests {
+    use super::*;
+
+    #[test]
+    fn the_unit_vocabulary_reads_index_with_its_grid() {
+        assert_eq!(parse_unit_spec("index:8"), Ok((ExportUnit::Index, Some(8))));
+        assert_eq!(parse_unit_spec("grid:3"), Ok((ExportUnit::Index, Some(3))));
+        assert_eq!(parse_unit_spec("deg"), Ok((ExportUnit::Degrees, None)));
+        assert_eq!(parse_unit_spec("index"), Ok((ExportUnit::Index, None)));
+        assert!(parse_unit_spec("index:0").unwrap_err().contains("index:M"));
+        assert!(parse_unit_spec("grad").unwrap_err().contains("index:M"));
+    }
 }

@@ -86,6 +86,7 @@ def test_check_of_the_designed_arrays_is_clean_in_every_unit(dye, dye_cycle):
 def test_check_of_the_cycle_object_is_exact_and_clean(dye, dye_cycle):
     r = pathsieve.check(dye, dye_cycle)
     assert r["clean"] is True and r["exact"] is True
+    assert r["schema_version"] == 1  # the same JSON layout as `pathsieve check --json`
 
 
 def test_float_phases_snap_within_the_tolerance_and_every_snap_is_listed(dye, dye_cycle):

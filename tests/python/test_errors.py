@@ -41,7 +41,7 @@ def test_a_nan_phase_names_step_and_column(dye, dye_cycle):
 
 
 def test_an_unknown_unit_lists_the_units(dye, dye_cycle):
-    with pytest.raises(pathsieve.PathsieveError, match="turns, deg, rad and index:M"):
+    with pytest.raises(pathsieve.PathsieveError, match=r"turns, degrees \(deg\), radians \(rad\) or index:M"):
         pathsieve.check(dye, dye_cycle.phases, unit="grad")
 
 
