@@ -161,21 +161,22 @@ fn build_lattice_cycle(
     Ok(cycle)
 }
 
-/// The cogwheel yardstick: from the lattice bound (the proven optimum, or the bound reached
-/// before an interruption) to the nested bound.
+/// The cogwheel yardstick: from the lattice bound (`excluded_below`: the optimum itself when
+/// proven, else the bound reached before an interruption) to the nested bound.
 fn cogwheel_yardstick_of(
     found: &LatticeFound,
     chosen: &Lattice,
     ctl: &SearchControl,
 ) -> CogwheelScan {
     let d = &found.design;
-    let from = if found.proven_minimal {
-        d.steps
-    } else {
-        d.excluded_below
-    };
     let to = d.nested_bound.unwrap_or(d.steps * 4).max(d.steps);
     let mut candidates = vec![chosen];
     candidates.extend(found.alternatives.iter());
-    cogwheel_yardstick(&found.problem, &candidates, from, to, ctl.cancel)
+    cogwheel_yardstick(
+        &found.problem,
+        &candidates,
+        d.excluded_below,
+        to,
+        ctl.cancel,
+    )
 }

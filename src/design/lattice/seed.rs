@@ -40,12 +40,13 @@ pub(crate) fn nested_seed(
         best_c: None,
         nodes: 0,
         work: 0,
+        stopped: false,
         cancel,
     };
     // Greedy bound first, then the exact branch and bound.
     st.greedy();
     st.dfs(&mut Vec::new(), 1);
-    let exact = st.nodes <= NESTED_BUDGET && !cancel.load(Ordering::Relaxed);
+    let exact = !st.stopped;
     let c = st.best_c?;
     let rows = (0..n)
         .map(|i| {
@@ -64,6 +65,8 @@ struct Nested<'a> {
     best_c: Option<Vec<u64>>,
     nodes: u64,
     work: u64,
+    /// Set when a budget ran out or the search was cancelled: the best is then only valid.
+    stopped: bool,
     cancel: &'a AtomicBool,
 }
 
@@ -124,13 +127,14 @@ impl Nested<'_> {
         let lim = (self.best - 1) / p;
         for v in 1..=lim {
             self.nodes += 1;
-            if self.nodes > NESTED_BUDGET || p * v >= self.best {
-                return;
-            }
-            if self.work > NESTED_WORK_BUDGET
+            if self.nodes > NESTED_BUDGET
+                || self.work > NESTED_WORK_BUDGET
                 || (self.nodes % 1024 == 0 && self.cancel.load(Ordering::Relaxed))
             {
-                self.nodes = NESTED_BUDGET + 1;
+                self.stopped = true;
+                return;
+            }
+            if p * v >= self.best {
                 return;
             }
             if !self.allowed(k, v) {
