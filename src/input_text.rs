@@ -3,7 +3,8 @@
 //!
 //! The limit is enforced while reading (at most `limit + 1` bytes are ever taken from the
 //! source), not from the file's metadata, so pipes, FIFOs, process substitutions and device
-//! nodes such as `/dev/zero` are bounded exactly like regular files.
+//! nodes such as `/dev/zero` are bounded exactly like regular files. The path `-` is standard
+//! input, read once and kept for the process (a command has at most one `-` input).
 
 use crate::error::InputError;
 use crate::limits::MAX_FILE_BYTES;
@@ -21,6 +22,9 @@ pub fn read_bytes(path: &Path) -> Result<Vec<u8>, InputError> {
 /// `take(limit + 1)` adapter, so no more than `limit + 1` bytes are ever held in memory, and a
 /// source that yields more is refused.
 pub fn read_bytes_limited(path: &Path, limit: u64) -> Result<Vec<u8>, InputError> {
+    if is_stdin(path) {
+        return read_stdin(path, limit);
+    }
     let file = std::fs::File::open(path).map_err(|e| {
         InputError::new(
             path,
@@ -48,6 +52,32 @@ pub fn read_bytes_limited(path: &Path, limit: u64) -> Result<Vec<u8>, InputError
             InputError::new(path, None, None, format!("cannot read the file: {e}"))
         }
     })
+}
+
+/// True for the path `-`, which means standard input.
+pub fn is_stdin(path: &Path) -> bool {
+    path.as_os_str() == "-"
+}
+
+/// Standard input, read once and kept: a command that reads its one `-` input twice (its
+/// bytes for a checksum, then its parsed form) gets the same bytes both times.
+static STDIN: std::sync::OnceLock<Result<Vec<u8>, String>> = std::sync::OnceLock::new();
+
+fn read_stdin(path: &Path, limit: u64) -> Result<Vec<u8>, InputError> {
+    let got = STDIN.get_or_init(|| {
+        read_capped(std::io::stdin().lock(), crate::limits::MAX_FILE_BYTES.max(limit)).map_err(
+            |e| match e {
+                CappedError::TooBig => String::new(),
+                CappedError::Io(e) => format!("cannot read standard input: {e}"),
+            },
+        )
+    });
+    match got {
+        Ok(b) if b.len() as u64 > limit => Err(too_big(path, limit, None)),
+        Ok(b) => Ok(b.clone()),
+        Err(m) if m.is_empty() => Err(too_big(path, limit, None)),
+        Err(m) => Err(InputError::new(path, None, None, m.clone())),
+    }
 }
 
 /// Why [`read_capped`] failed.

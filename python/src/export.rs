@@ -87,6 +87,8 @@ fn meta(experiment: &PyExperiment, p: &ExportPlan, content: &str, unit: String) 
         source_steps: p.list.source_steps.clone(),
         notes: p.notes.clone(),
         weights: exported_weights(&p.list),
+        layout: None,
+        pixel_freqs_thz: None,
     }
 }
 

@@ -21,10 +21,11 @@ use std::path::PathBuf;
 /// Arguments of `pathsieve check`.
 #[derive(Args, Debug)]
 pub struct CheckArgs {
-    /// Experiment file (TOML).
+    /// Experiment file (TOML); `-` reads stdin.
     experiment: PathBuf,
-    /// Cycle table: a TOML cycle file, a CSV table, the JSON or NPY export, or a NumPy
-    /// .npy/.npz array (docs/cycle-format.md).
+    /// Cycle table: a TOML cycle file, a CSV table, the JSON, NPY, NPZ or plain CSV/TSV
+    /// export (with its sidecar), or a NumPy .npy/.npz array (docs/cycle-format.md); `-` reads
+    /// stdin (the format is recognised from the content).
     cycle: PathBuf,
     #[command(flatten)]
     rejection: RejectionArgs,
@@ -32,7 +33,7 @@ pub struct CheckArgs {
     #[arg(long, value_name = "K")]
     leak_search: Option<u32>,
     /// Phase unit of the table when the file does not declare one: turns, deg, rad or index:M
-    /// (grid:M).
+    /// (indices on an M-step grid; also grid:M).
     #[arg(long, value_name = "UNIT")]
     unit: Option<String>,
     /// Never snap approximate phases to fractions; evaluate them numerically (not exact).
@@ -140,6 +141,7 @@ pub fn run(a: CheckArgs) -> anyhow::Result<u8> {
         Some(u) => Some(parse_unit(u).map_err(|m| anyhow::anyhow!("--unit: {m}"))?),
         None => None,
     };
+    super::stdio::check_one_stdin(&[Some(&a.experiment), Some(&a.cycle)])?;
     let exp = read_experiment(&a.experiment)?;
     req.options.impact.backgrounds = background_args(&a.backgrounds, &exp)?;
     let cycle = read_cycle(&a.cycle, unit)?;

@@ -26,7 +26,9 @@ use std::path::{Path, PathBuf};
 Output: .npy (one file per output, NAME.OUTPUT.npy), .npz (one archive) or .csv/.tsv (1-D \
 outputs), plus NAME.meta.json. C = s * sum_m w_m S_m with F(b) = sum_m w_m exp(+i 2 pi b.phi_m); \
 s = 1/F(t) unless --as-written (docs/combine.md).\n\
-Exit codes: 0 combined with a clean cycle, 1 combined but the cycle leaks, 2 usage or input error."
+A file argument `-` reads standard input (one input per command).\n\
+Exit codes: 0 combined with a clean cycle, 1 combined but the cycle leaks, 2 usage or input error, \
+130 interrupted (nothing written)."
 )]
 pub struct CombineArgs {
     /// Experiment file (TOML).
@@ -68,6 +70,15 @@ fn name_of(p: &Path) -> String {
 
 /// Run the subcommand.
 pub fn run(a: CombineArgs) -> anyhow::Result<u8> {
+    if super::stdio::is_dash(&a.out) {
+        anyhow::bail!("--out -: combine writes its outputs with a metadata sidecar (NAME.meta.json), more than standard output can hold; give a file name such as combined.npz");
+    }
+    super::stdio::check_one_stdin(&[
+        Some(&a.experiment),
+        Some(&a.cycle),
+        Some(&a.data),
+        a.export.as_deref(),
+    ])?;
     let format = OutputFormat::from_path(&a.out).map_err(|m| anyhow::anyhow!("--out: {m}"))?;
     // The output and its sidecar are checked before any work (the per-output files of a
     // multi-array result are checked again, with everything, when written).

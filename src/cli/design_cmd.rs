@@ -13,7 +13,7 @@ use pathsieve::design::{cycled_fields, design, DesignOptions, DesignReport};
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::export::phase_formats::{flat_cycle, FlatCycle};
 use pathsieve::export::phase_list::{parse_unit_spec, ExportUnit, PhaseList};
-use pathsieve::render::design_summary;
+use pathsieve::render::{design_summary, weight_text};
 use pathsieve::selection::{Selection, SelectionRequest};
 use serde::Serialize;
 use std::path::{Path, PathBuf};
@@ -21,7 +21,7 @@ use std::path::{Path, PathBuf};
 /// Arguments of `pathsieve design`.
 #[derive(Args, Debug)]
 pub struct DesignArgs {
-    /// Experiment file with the wanted signals as `[[signal]]` tables.
+    /// Experiment file with the wanted signals as `[[signal]]` tables; `-` reads stdin.
     file: PathBuf,
     #[command(flatten)]
     rejection: RejectionArgs,
@@ -51,7 +51,8 @@ pub struct DesignArgs {
     #[arg(long, value_enum, default_value_t = ProgressMode::Auto)]
     progress: ProgressMode,
     /// Write the cycle file here: a TOML cycle file for `.toml`, the plain table for `.csv`
-    /// (both read by `pathsieve check`).
+    /// (both read by `pathsieve check`); `-` writes the TOML cycle file to stdout and the
+    /// report to stderr.
     #[arg(long, value_name = "CYCLE.toml|CYCLE.csv")]
     out: Option<PathBuf>,
     /// Overwrite an existing output file.
@@ -61,7 +62,8 @@ pub struct DesignArgs {
     /// as exact turns, weights as re/im and exact texts).
     #[arg(long)]
     json: bool,
-    /// Unit of the phases in the JSON cycle: turns, deg, rad, index or index:M.
+    /// Unit of the phases in the JSON cycle: turns, deg, rad, index (grid indices) or index:M
+    /// (indices on an M-step grid).
     #[arg(long, value_name = "UNIT", default_value = "turns")]
     unit: String,
 }
@@ -91,7 +93,12 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
         );
     }
     // The output is checked before any work: kind, extension, not the input, --force.
+    let to_stdout = a.out.as_deref().is_some_and(super::stdio::is_dash);
+    if to_stdout && a.json {
+        bail!("--out - and --json both write stdout; give --out a file name");
+    }
     let out_format = match &a.out {
+        Some(_) if to_stdout => Some(OutFormat::Toml),
         Some(o) => {
             let f = OutFormat::of(o)?;
             pathsieve::safe_write::check_targets(&[o], &[&a.file], a.force)?;
@@ -151,9 +158,13 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
             OutFormat::Toml => pathsieve::cycle::toml_format::write_cycle_toml(cycle),
             OutFormat::Csv => pathsieve::cycle::csv_format::write_cycle_csv(cycle),
         };
-        pathsieve::safe_write::write_atomic(path, text.as_bytes(), a.force)?;
-        if !a.json {
-            eprintln!("wrote the cycle to {}", path.display());
+        if to_stdout {
+            print(&text)?;
+        } else {
+            pathsieve::safe_write::write_atomic(path, text.as_bytes(), a.force)?;
+            if !a.json {
+                eprintln!("wrote the cycle to {}", path.display());
+            }
         }
     }
     if a.json {
@@ -186,8 +197,9 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
             _ => "exp(-2 pi i t . phi_m)",
         };
         out.push_str(&format!(
-            "weights: w_m = {weights} / {} per output (exact); phases in turns\n",
-            cycle.len()
+            "weights: w_m = {weights} / {} per output (exact); phases in turns;\n  {}\n",
+            cycle.len(),
+            weight_text::LEGEND
         ));
         if let Some(c) = &report.choice {
             out.push_str(&format!(
@@ -205,7 +217,11 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
             out.push_str(&format!("  - {c}\n"));
         }
     }
-    print(&out)?;
+    if to_stdout {
+        eprint!("{out}");
+    } else {
+        print(&out)?;
+    }
     Ok(code)
 }
 
@@ -239,10 +255,11 @@ impl OutFormat {
     }
 }
 
-/// The step table: one row per step, phases as exact fractions of a turn, weights per output.
+/// The step table: one row per step, phases as exact fractions of a turn (said in the line
+/// under it), weights per output in the compact notation of `weight_text`.
 fn steps_table(c: &Cycle) -> String {
     let mut header: Vec<String> = vec!["step".into()];
-    header.extend(c.fields.iter().map(|f| format!("{f} (turn)")));
+    header.extend(c.fields.iter().cloned());
     header.extend(c.outputs.iter().map(|o| format!("w {}", o.name)));
     let h: Vec<&str> = header.iter().map(String::as_str).collect();
     let mut t = table(&h);
@@ -252,10 +269,11 @@ fn steps_table(c: &Cycle) -> String {
             Phase::Exact(r) => r.to_string(),
             Phase::Approx(x) => format!("{x:.6}"),
         }));
-        cells.extend(c.outputs.iter().map(|o| {
-            let z = o.weights[m].to_complex() * c.len() as f64;
-            format!("({:+.3}{:+.3}i)/{}", z.re, z.im, c.len())
-        }));
+        cells.extend(
+            c.outputs
+                .iter()
+                .map(|o| weight_text::compact_weight(&o.weights[m], c.len())),
+        );
         t.add_row(cells);
     }
     format!("{t}\n")

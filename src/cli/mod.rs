@@ -3,20 +3,24 @@
 mod agnostic_cmd;
 mod check_cmd;
 mod combine_cmd;
+mod completions_cmd;
 mod design_cmd;
 mod design_progress;
 mod draw_cmd;
 mod export_cmd;
+mod export_files;
+mod help;
 mod output;
 mod pathways_cmd;
 pub mod signals;
+mod stdio;
 
 use clap::{Parser, Subcommand};
 
 /// Pathway enumeration and exact phase-cycle design and checking for multidimensional
 /// spectroscopy.
 #[derive(Parser, Debug)]
-#[command(name = "pathsieve", version, about, long_about = None)]
+#[command(name = "pathsieve", version, about, long_about = None, after_help = help::TOP)]
 pub struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -25,19 +29,31 @@ pub struct Cli {
 #[derive(Subcommand, Debug)]
 enum Command {
     /// List every Liouville pathway of an experiment with its phase signature and class.
+    #[command(after_help = help::PATHWAYS)]
     Pathways(pathways_cmd::PathwaysArgs),
     /// List the agnostic rejection set: every signature a cycle must cancel through an order.
+    #[command(after_help = help::AGNOSTIC)]
     Agnostic(agnostic_cmd::AgnosticArgs),
     /// Design the smallest phase cycle that keeps the wanted signals.
+    #[command(after_help = help::DESIGN)]
     Design(design_cmd::DesignArgs),
     /// Check a phase-cycle table exactly: what it keeps, what leaks, first leak order.
+    #[command(after_help = help::CHECK)]
     Check(check_cmd::CheckArgs),
-    /// Write a cycle as phase lists (CSV, JSON, NPY) or pulse-shaper masks, with metadata.
+    /// Write a cycle as phase lists (CSV, plain CSV/TSV, JSON, NPY, NPZ) or pulse-shaper masks, with metadata.
+    #[command(after_help = help::EXPORT)]
     Export(export_cmd::ExportArgs),
     /// Combine measured per-step data with a cycle's weights: one array per output.
     Combine(combine_cmd::CombineArgs),
     /// Draw pictures (SVG): double-sided diagrams, a leakage chart, phase wheels.
+    #[command(after_help = help::DRAW)]
     Draw(draw_cmd::DrawArgs),
+    /// Print a shell completion script (bash, zsh, fish, powershell, elvish) to stdout.
+    #[command(after_help = help::COMPLETIONS)]
+    Completions(completions_cmd::CompletionsArgs),
+    /// Print the manual page (roff) of pathsieve or one of its commands to stdout.
+    #[command(after_help = help::MAN)]
+    Man(completions_cmd::ManArgs),
 }
 
 /// Run the parsed command; returns the exit code.
@@ -50,6 +66,8 @@ pub fn run(cli: Cli) -> anyhow::Result<u8> {
         Command::Export(a) => export_cmd::run(a),
         Command::Combine(a) => combine_cmd::run(a),
         Command::Draw(a) => draw_cmd::run(a),
+        Command::Completions(a) => completions_cmd::run_completions(a),
+        Command::Man(a) => completions_cmd::run_man(a),
     }
 }
 

@@ -13,6 +13,14 @@ pub fn print(text: &str) -> anyhow::Result<()> {
     Ok(())
 }
 
+/// Write bytes to stdout, flushing (as [`print`]).
+pub fn print_bytes(bytes: &[u8]) -> anyhow::Result<()> {
+    let mut out = std::io::stdout().lock();
+    out.write_all(bytes)?;
+    out.flush()?;
+    Ok(())
+}
+
 /// Pretty JSON of a serialisable value (a struct or map), with the `schema_version` key
 /// first and a trailing newline, to stdout.
 pub fn print_json<T: serde::Serialize>(value: &T) -> anyhow::Result<()> {
@@ -21,12 +29,19 @@ pub fn print_json<T: serde::Serialize>(value: &T) -> anyhow::Result<()> {
     print(&s)
 }
 
-/// A table with our house style and the given header.
+/// Width of a table when stdout is not a terminal (a pipe, a file): cells wrap to fit.
+pub const DEFAULT_TABLE_WIDTH: u16 = 80;
+
+/// A table with our house style and the given header, wrapping its cells to the terminal's
+/// width, or to [`DEFAULT_TABLE_WIDTH`] columns when stdout is not a terminal.
 pub fn table(header: &[&str]) -> Table {
     let mut t = Table::new();
     t.load_preset(UTF8_FULL_CONDENSED)
         .set_content_arrangement(ContentArrangement::Dynamic)
         .set_header(header.iter().copied());
+    if t.width().is_none() {
+        t.set_width(DEFAULT_TABLE_WIDTH);
+    }
     t
 }
 

@@ -15,7 +15,7 @@ use std::path::PathBuf;
 /// Arguments of `pathsieve pathways`.
 #[derive(Args, Debug)]
 pub struct PathwaysArgs {
-    /// Experiment file (TOML, see docs/experiment-format.md).
+    /// Experiment file (TOML, see docs/experiment-format.md); `-` reads stdin.
     file: PathBuf,
     /// Enumerate every pathway through the order (each pulse acting any number of times,
     /// lower orders included), not only the signal pathways.
@@ -37,7 +37,8 @@ pub struct PathwaysArgs {
     /// Print a text diagram of each listed pathway.
     #[arg(long)]
     diagrams: bool,
-    /// Draw the double-sided diagrams of the listed pathways into this SVG file.
+    /// Draw the double-sided diagrams of the listed pathways into this SVG file (`-`: the SVG
+    /// alone on stdout).
     #[arg(long, value_name = "OUT.svg")]
     svg: Option<PathBuf>,
     /// Overwrite an existing --svg file.
@@ -119,8 +120,11 @@ struct PathwayRow {
 
 /// Run the subcommand.
 pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
-    if let Some(svg) = &a.svg {
+    if let Some(svg) = a.svg.as_deref().filter(|p| !super::stdio::is_dash(p)) {
         pathsieve::safe_write::check_targets(&[svg], &[&a.file], a.force)?;
+    }
+    if a.svg.as_deref().is_some_and(super::stdio::is_dash) && a.json {
+        bail!("--svg - and --json both write stdout; give --svg a file name");
     }
     let exp = read_experiment(&a.file)?;
     if a.through.is_some() && !a.all {
@@ -173,11 +177,13 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
             bail!("no pathway to draw; check --select");
         }
         let title = format!("{} — {} pathways", exp.title, rows.len());
-        pathsieve::safe_write::write_atomic(
-            path,
-            diagram_svg::diagrams_svg(&exp, &rows, &title).as_bytes(),
-            a.force,
-        )?;
+        let svg = diagram_svg::diagrams_svg(&exp, &rows, &title);
+        if super::stdio::is_dash(path) {
+            // stdout carries the picture alone.
+            print(&svg)?;
+            return Ok(0);
+        }
+        pathsieve::safe_write::write_atomic(path, svg.as_bytes(), a.force)?;
         if !a.json {
             eprintln!("wrote {} diagrams to {}", rows.len(), path.display());
         }

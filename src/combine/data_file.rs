@@ -35,11 +35,22 @@ fn to_step_data(a: NpyArray, path: &Path) -> Result<StepData, InputError> {
 /// # Errors
 /// [`InputError`] naming the file (and line and column for text) and the fix.
 pub fn read_step_data(path: &Path, array: Option<&str>) -> Result<StepData, InputError> {
-    let ext = path
-        .extension()
-        .and_then(|e| e.to_str())
-        .unwrap_or("")
-        .to_ascii_lowercase();
+    let ext = if crate::input_text::is_stdin(path) {
+        // Standard input: NPY or NPZ by its magic bytes, else CSV (tabs make it TSV).
+        let b = crate::input_text::read_bytes_limited(path, MAX_DATA_FILE_BYTES)?;
+        match crate::cycle::sniff_kind(&b) {
+            "npy" => "npy",
+            "npz" => "npz",
+            _ if b.contains(&b'\t') => "tsv",
+            _ => "csv",
+        }
+        .to_string()
+    } else {
+        path.extension()
+            .and_then(|e| e.to_str())
+            .unwrap_or("")
+            .to_ascii_lowercase()
+    };
     let bad = |m: String| InputError::new(path, None, None, m);
     match ext.as_str() {
         "npy" => {

@@ -254,11 +254,14 @@ pub fn weights_from_signature(steps: &[Vec<Phase>], t: &[i64]) -> Vec<Weight> {
 /// the plain table, `.json` for the tool's export, `.npy`/`.npz` for NumPy arrays). `unit_override` supplies the phase unit when the file does not declare
 /// one; a file that declares a different unit is refused rather than silently reinterpreted.
 pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle, InputError> {
-    let ext = path
-        .extension()
-        .and_then(|e| e.to_str())
-        .unwrap_or("")
-        .to_ascii_lowercase();
+    let ext = if crate::input_text::is_stdin(path) {
+        sniff_kind(&crate::input_text::read_bytes(path)?).to_string()
+    } else {
+        path.extension()
+            .and_then(|e| e.to_str())
+            .unwrap_or("")
+            .to_ascii_lowercase()
+    };
     if matches!(ext.as_str(), "npy" | "npz") {
         // NumPy arrays: the tool's own NPY export (with its sidecar) or an array numpy saved.
         return crate::export::array_import::read_array_cycle(path, unit_override);
@@ -266,7 +269,24 @@ pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle
     let text = crate::input_text::read_text(path)?;
     match ext.as_str() {
         "toml" => read_cycle_toml(&text, path, unit_override),
-        "csv" | "tsv" | "txt" => read_cycle_csv(&text, path, unit_override),
+        "csv" | "tsv" | "txt" => match plain_sidecar(path, &text) {
+            Some(meta) => {
+                if unit_override.is_some_and(|u| Some(u) != text::parse_unit(&meta.unit).ok()) {
+                    return Err(InputError::new(
+                        path,
+                        None,
+                        Some("unit"),
+                        format!(
+                            "--unit differs from the unit `{}` in the sidecar {}; drop --unit",
+                            meta.unit,
+                            crate::export::meta::sidecar_path(path).display()
+                        ),
+                    ));
+                }
+                crate::export::plain::read_plain_table(&text, &meta, path)
+            }
+            None => read_cycle_csv(&text, path, unit_override),
+        },
         // The tool's own JSON export, the file acquisition software loads.
         "json" => crate::export::phase_import::read_phase_list_json(&text, path),
         other => Err(InputError::new(
@@ -275,6 +295,43 @@ pub fn read_cycle(path: &Path, unit_override: Option<PhaseUnit>) -> Result<Cycle
             None,
             format!("unknown cycle file extension `.{other}`; use .toml (cycle file), .csv (plain table), .json (a pathsieve export) or .npy/.npz (NumPy arrays)"),
         )),
+    }
+}
+
+/// The metadata of a plain table (`pathsieve export --format plain-csv|plain-tsv`): its
+/// sidecar, when the table starts with its header row (no `#` lines) and the sidecar names a
+/// plain layout. Any other file beside the table is not this table's metadata.
+fn plain_sidecar(path: &Path, text: &str) -> Option<crate::export::meta::ExportMeta> {
+    let first = text.lines().map(str::trim).find(|l| !l.is_empty())?;
+    if first.starts_with('#') {
+        return None;
+    }
+    let (_, meta) = crate::export::meta::read_sidecar(path).ok().flatten()?;
+    let plain = [crate::export::plain::LAYOUT_CSV, crate::export::plain::LAYOUT_TSV];
+    plain
+        .contains(&meta.layout.as_deref().unwrap_or(""))
+        .then_some(meta)
+}
+
+/// The kind of a cycle table given on standard input (`-`), from its first bytes, as the
+/// extension it would have: `npy` (the NumPy magic), `npz` (a ZIP archive), `json` (an object),
+/// `toml` (text that parses as a non-empty TOML document; a CSV table never does), else
+/// `csv`.
+pub fn sniff_kind(bytes: &[u8]) -> &'static str {
+    if bytes.starts_with(b"\x93NUMPY") {
+        return "npy";
+    }
+    if bytes.starts_with(b"PK") {
+        return "npz";
+    }
+    let text = String::from_utf8_lossy(bytes);
+    let body = text.trim_start_matches('\u{feff}').trim_start();
+    if body.starts_with('{') {
+        return "json";
+    }
+    match body.parse::<toml::Table>() {
+        Ok(t) if !t.is_empty() => "toml",
+        _ => "csv",
     }
 }
 

@@ -31,6 +31,7 @@ pub mod cyclo;
 pub mod cyclotomic;
 pub mod filter;
 pub mod parse;
+pub mod polar;
 pub mod snap;
 pub mod tensor;
 pub mod turns;

@@ -2,7 +2,8 @@
 //! loads is the file that is checked: an `.npy` array, or an `.npz` archive with a `phases`
 //! member (or a single member) and optionally a complex `weights` member. With the sidecar
 //! `NAME.meta.json` that `pathsieve export` writes, fields, unit, grid and the exact weights
-//! come from it; without one (an array as numpy saved it) the unit must be given and the
+//! come from it (or from the `meta` member of an NPZ that `pathsieve export --format npz` wrote);
+//! without one (an array as numpy saved it) the unit must be given and the
 //! columns are the experiment's cycled fields in order (assigned when the cycle is bound).
 //! Float phases carry no decimal precision: the checker snaps them within its snapping
 //! tolerance, as it does `~` cells; integer phases are exact.
@@ -29,14 +30,30 @@ pub fn read_array_cycle(
     let bytes = crate::input_text::read_bytes(path)?;
     let is_npz = path
         .extension()
-        .is_some_and(|e| e.eq_ignore_ascii_case("npz"));
+        .is_some_and(|e| e.eq_ignore_ascii_case("npz"))
+        || (crate::input_text::is_stdin(path) && bytes.starts_with(b"PK"));
     let (phases, weights) = if is_npz {
         npz_members(&bytes, path)?
     } else {
         (read_npy(&bytes).map_err(|e| bad(e.to_string()))?, None)
     };
     let layout = describe(&phases);
-    match read_sidecar(path)? {
+    let embedded = if is_npz {
+        super::npz::read_npz_text(&bytes, "meta")
+            .map_err(&bad)?
+            .map(|t| {
+                let meta = super::meta::parse_sidecar(&t, path)?;
+                Ok::<_, InputError>((path.to_path_buf(), meta))
+            })
+            .transpose()?
+    } else {
+        None
+    };
+    let meta = match embedded {
+        Some(m) => Some(m),
+        None => read_sidecar(path)?,
+    };
+    match meta {
         Some((side, meta)) => {
             if unit_override
                 .is_some_and(|u| Some(u) != crate::cycle::text::parse_unit(&meta.unit).ok())

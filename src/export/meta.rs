@@ -2,7 +2,8 @@
 //! version, SHA-256 of the experiment file, grid, unit, step order, field and output names) and
 //! its three written forms: `# key: value` comment lines for CSV, a `meta` object for JSON and a
 //! sidecar `NAME.meta.json` for NPY, which has no metadata slot of its own, and the one reader
-//! of that sidecar ([`read_sidecar`]).
+//! of that sidecar ([`read_sidecar`]). Metadata is ASCII: other characters are written as
+//! `\uXXXX` escapes ([`ascii_escaped`]).
 
 use crate::error::InputError;
 use serde::{Deserialize, Serialize};
@@ -69,6 +70,30 @@ pub struct ExportMeta {
     /// then checks the weighted design exactly.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub weights: Vec<ExportedWeights>,
+    /// The form of the file this sidecar describes, when `check` can read it back with this
+    /// sidecar: `plain-csv` or `plain-tsv` (see [`super::plain`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub layout: Option<String>,
+    /// The centre frequency of every shaper pixel in THz, for mask exports.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pixel_freqs_thz: Option<Vec<f64>>,
+}
+
+/// `text` with every non-ASCII character escaped: `\uXXXX` (UTF-16 units, so JSON reads it
+/// back to the same string) — metadata is ASCII, whatever names the experiment uses.
+pub fn ascii_escaped(text: &str) -> String {
+    let mut s = String::with_capacity(text.len());
+    for c in text.chars() {
+        if c.is_ascii() {
+            s.push(c);
+        } else {
+            let mut buf = [0u16; 2];
+            for u in c.encode_utf16(&mut buf) {
+                s.push_str(&format!("\\u{u:04x}"));
+            }
+        }
+    }
+    s
 }
 
 /// The exact weights of one output in an export.
@@ -87,7 +112,7 @@ impl ExportMeta {
         let mut s = String::new();
         let mut put = |k: &str, v: &str| {
             // One line per key: newlines in free text would end the comment early.
-            let v = v.replace(['\n', '\r'], " ");
+            let v = ascii_escaped(&v.replace(['\n', '\r'], " "));
             s.push_str(&format!("# {k}: {v}\n"));
         };
         put("tool", &format!("{} {}", self.tool, self.version));
@@ -126,7 +151,9 @@ impl ExportMeta {
     /// The metadata as pretty JSON bytes (the NPY sidecar), with a trailing newline and the
     /// `schema_version` key first.
     pub fn json_bytes(&self) -> Vec<u8> {
-        let mut s = serde_json::to_string_pretty(&versioned(self)).unwrap_or_else(|_| "{}".into());
+        let s = serde_json::to_string_pretty(&versioned(self)).unwrap_or_else(|_| "{}".into());
+        // Non-ASCII occurs only inside JSON strings, where the escape reads back the same.
+        let mut s = ascii_escaped(&s);
         s.push('\n');
         s.into_bytes()
     }
@@ -157,7 +184,7 @@ pub fn parse_sidecar(text: &str, path: &Path) -> Result<ExportMeta, InputError> 
 /// [`InputError`] for an unreadable or malformed sidecar.
 pub fn read_sidecar(data: &Path) -> Result<Option<(PathBuf, ExportMeta)>, InputError> {
     let side = sidecar_path(data);
-    if !side.is_file() {
+    if crate::input_text::is_stdin(data) || !side.is_file() {
         return Ok(None);
     }
     let text = crate::input_text::read_text(&side)?;
@@ -204,6 +231,21 @@ mod tests {
             PathBuf::from("d/phases.meta.json")
         );
         assert_eq!(sidecar_path(Path::new("w")), PathBuf::from("w.meta.json"));
+    }
+
+    #[test]
+    fn metadata_is_ascii_and_reads_back_the_same() {
+        let m = ExportMeta {
+            title: Some("\u{3c6} scan \u{1d70f}".into()),
+            fields: vec!["\u{e9}1".into()],
+            ..ExportMeta::default()
+        };
+        let bytes = m.json_bytes();
+        assert!(bytes.is_ascii());
+        let text = String::from_utf8(bytes).unwrap();
+        let back = parse_sidecar(&text, Path::new("x.meta.json")).unwrap();
+        assert_eq!(back, m);
+        assert!(m.csv_comments().is_ascii());
     }
 
     #[test]

@@ -13,6 +13,7 @@ pub mod npz;
 pub mod phase_formats;
 pub mod phase_import;
 pub mod phase_list;
+pub mod plain;
 pub mod plan;
 pub mod shaper;
 pub mod step_order;

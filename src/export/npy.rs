@@ -190,6 +190,24 @@ pub fn npy_c128(shape: &[usize], data: &[Complex64]) -> Result<Vec<u8>, NpyError
     Ok(out)
 }
 
+/// NPY 1.0 bytes of a NumPy string scalar (`<U` dtype, shape `()`, UTF-32 little-endian):
+/// `np.load` returns it without pickling, `str(a)` is the text. For metadata inside an NPZ.
+///
+/// # Errors
+/// As [`npy_f64`] (never, for a scalar).
+pub fn npy_text(text: &str) -> Result<Vec<u8>, NpyError> {
+    let chars: Vec<char> = text.chars().collect();
+    let descr = format!("<U{}", chars.len().max(1));
+    let mut out = preamble(&descr, &[], 1)?;
+    for c in &chars {
+        out.extend_from_slice(&u32::from(*c).to_le_bytes());
+    }
+    if chars.is_empty() {
+        out.extend_from_slice(&[0; 4]);
+    }
+    Ok(out)
+}
+
 /// NPY 1.0 bytes for a C-order `<i8` (int64) array of the given shape.
 ///
 /// # Errors

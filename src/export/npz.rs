@@ -5,7 +5,7 @@
 //! follows the ZIP File Format Specification (PKWARE, APPNOTE.TXT, version 6.3, sections 4.3
 //! and 4.5 (memory)); the checksum is CRC-32 with the reflected polynomial 0xEDB88320.
 
-use super::npy::{read_npy, NpyArray};
+use super::npy::{read_npy, NpyArray, NpyError};
 
 /// Most members read from or written to one archive (no ZIP64 end record).
 pub const MAX_MEMBERS: usize = 65_535;
@@ -229,11 +229,55 @@ pub fn read_npz(b: &[u8]) -> Result<Vec<(String, NpyArray)>, String> {
                 e.name
             ));
         }
-        let arr = read_npy(data).map_err(|err| format!("NPZ member `{}`: {err}", e.name))?;
         let name = e.name.strip_suffix(".npy").unwrap_or(&e.name).to_string();
+        let arr = match read_npy(data) {
+            Ok(a) => a,
+            // A string member (pathsieve's `meta`) is text, not data: read_npz_text reads it.
+            Err(NpyError::UnsupportedDtype { descr }) if descr.starts_with("<U") => continue,
+            Err(err) => return Err(format!("NPZ member `{}`: {err}", e.name)),
+        };
         out.push((name, arr));
     }
     Ok(out)
+}
+
+/// The text of the string member `name` (a `<U` scalar as [`super::npy::npy_text`] writes
+/// it), if the archive has one: the metadata of a pathsieve NPZ.
+///
+/// # Errors
+/// A message for a damaged archive or a member `name` that is not a string scalar.
+pub fn read_npz_text(b: &[u8], name: &str) -> Result<Option<String>, String> {
+    let want = format!("{name}.npy");
+    let Some(e) = central_directory(b)?.into_iter().find(|e| e.name == want) else {
+        return Ok(None);
+    };
+    let at = usize::try_from(e.offset).map_err(|_| "NPZ offset out of range")?;
+    let start = at + 30 + usize::from(u16_at(b, at + 26)?) + usize::from(u16_at(b, at + 28)?);
+    let size = usize::try_from(e.size).map_err(|_| "NPZ member size out of range")?;
+    let data = b
+        .get(start..start.saturating_add(size))
+        .ok_or_else(|| format!("NPZ truncated in member `{}`", e.name))?;
+    if e.method != 0 || crc32(data) != e.crc {
+        return Err(format!("NPZ member `{want}` is compressed or damaged"));
+    }
+    let not_text = || format!("NPZ member `{want}` is not a string scalar");
+    if data.len() < 10 || data[6] != 1 {
+        return Err(not_text());
+    }
+    let hlen = usize::from(u16::from_le_bytes([data[8], data[9]]));
+    let header = data.get(10..10 + hlen).ok_or_else(not_text)?;
+    let header = String::from_utf8_lossy(header);
+    if !header.contains("'descr': '<U") || !header.contains("'shape': ()") {
+        return Err(not_text());
+    }
+    let body = &data[10 + hlen..];
+    let text: Option<String> = body
+        .chunks_exact(4)
+        .map(|c| u32::from_le_bytes([c[0], c[1], c[2], c[3]]))
+        .take_while(|&u| u != 0)
+        .map(char::from_u32)
+        .collect();
+    text.map(Some).ok_or_else(not_text)
 }
 
 #[cfg(test)]
@@ -259,6 +303,21 @@ mod tests {
         assert_eq!(back[0].1.data, NpyData::F64(vec![1.5, -2.0]));
         assert_eq!(back[1].0, "b b");
         assert_eq!(back[1].1.shape, vec![1, 1]);
+    }
+
+    #[test]
+    fn a_text_member_is_skipped_by_read_npz_and_read_by_read_npz_text() {
+        let a = npy_f64(&[2], &[1.5, -2.0]).unwrap();
+        let t = crate::export::npy::npy_text("{\"k\": \"\u{3c6}\"}").unwrap();
+        let z = write_npz(&[("a".into(), a), ("meta".into(), t)]).unwrap();
+        let back = read_npz(&z).unwrap();
+        assert_eq!(back.len(), 1);
+        assert_eq!(
+            read_npz_text(&z, "meta").unwrap().as_deref(),
+            Some("{\"k\": \"\u{3c6}\"}")
+        );
+        assert_eq!(read_npz_text(&z, "other").unwrap(), None);
+        assert!(read_npz_text(&z, "a").is_err());
     }
 
     #[test]

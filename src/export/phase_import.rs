@@ -340,11 +340,36 @@ pub fn cycle_of_arrays(
     weights: Option<super::npy::NpyArray>,
     path: &Path,
 ) -> Result<Cycle, InputError> {
-    let bad = |m: String| InputError::new(path, None, None, m);
     let f = meta.fields.len();
     let (n, rows) = phase_rows(a, f, path)?;
+    let mut outputs = exact_outputs(meta, n, path)?;
+    if outputs.is_empty() {
+        if let Some(b) = weights {
+            outputs = array_outputs(meta, b, n, path)?;
+        }
+    }
+    cycle_of(meta, rows, outputs, path)
+}
+
+/// A cycle from phase rows (in the metadata's unit) and the metadata's exact weights: the
+/// plain-table re-import.
+///
+/// # Errors
+/// [`InputError`] for weights that do not fit the rows or do not parse.
+pub fn cycle_of_rows(
+    meta: &ExportMeta,
+    rows: Vec<Vec<f64>>,
+    path: &Path,
+) -> Result<Cycle, InputError> {
+    let outputs = exact_outputs(meta, rows.len(), path)?;
+    cycle_of(meta, rows, outputs, path)
+}
+
+/// The outputs from the metadata's exact weight texts (none when it has none).
+fn exact_outputs(meta: &ExportMeta, n: usize, path: &Path) -> Result<Vec<CycleOutput>, InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
     let mut outputs = Vec::new();
-    if !meta.weights.is_empty() {
+    {
         for ew in &meta.weights {
             if ew.exact.len() != n {
                 return Err(bad(format!(
@@ -366,7 +391,20 @@ pub fn cycle_of_arrays(
                 source: WeightSource::Explicit,
             });
         }
-    } else if let Some(b) = weights {
+    }
+    Ok(outputs)
+}
+
+/// The outputs from a complex weight array (steps x outputs, approximate).
+fn array_outputs(
+    meta: &ExportMeta,
+    b: super::npy::NpyArray,
+    n: usize,
+    path: &Path,
+) -> Result<Vec<CycleOutput>, InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
+    let mut outputs = Vec::new();
+    {
         let NpyData::C128(v) = b.data else {
             return Err(bad("weights must be complex (complex128)".into()));
         };
@@ -385,7 +423,7 @@ pub fn cycle_of_arrays(
             });
         }
     }
-    cycle_of(meta, rows, outputs, path)
+    Ok(outputs)
 }
 
 /// The rows of a real phase array with `f` columns (a vector is one column).

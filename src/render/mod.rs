@@ -14,6 +14,7 @@ pub mod origin;
 pub mod png;
 pub mod spectrum_svg;
 pub mod svg;
+pub mod weight_text;
 pub mod wheels_svg;
 
 use crate::model::Experiment;
