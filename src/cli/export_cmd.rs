@@ -111,7 +111,7 @@ impl ExportArgs {
 }
 
 /// Every file this export will write, known from the arguments (and, for --per-field, the
-/// experiment's field names).
+/// experiment's field names; none before the experiment is read).
 fn planned_outputs(a: &ExportArgs, fields: &[String]) -> Vec<PathBuf> {
     let mut v = Vec::new();
     if a.per_field {
@@ -138,6 +138,9 @@ fn planned_outputs(a: &ExportArgs, fields: &[String]) -> Vec<PathBuf> {
 
 /// Usage errors found from the arguments alone.
 fn validate(a: &ExportArgs) -> anyhow::Result<()> {
+    if a.per_field && super::stdio::is_dash(&a.out) {
+        bail!("--per-field writes one file per field; give --out a file name such as phases.csv, not `-`");
+    }
     let is_mask = matches!(a.format, Format::MaskCsv | Format::MaskNpy);
     if is_mask && a.shaper.is_none() {
         bail!("--format mask-csv/mask-npy needs --shaper shaper.toml (docs/export-formats.md)");
@@ -161,17 +164,22 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         (m, g) => m.or(g),
     };
     validate(&a)?;
-    // The experiment is read first only for its field names (--per-field file names); every
-    // output path is checked before the cycle is read or anything computed.
+    // Every output path is checked before any input is read or anything computed; the
+    // per-field files, named after the experiment's fields, right after it is read.
+    let mut inputs = vec![a.experiment.as_path(), a.cycle.as_path()];
+    inputs.extend(a.shaper.as_deref());
+    let check_all = |fields: &[String]| -> anyhow::Result<()> {
+        let files_only = split_stdout(&planned_outputs(&a, fields))?;
+        let targets: Vec<&Path> = files_only.iter().map(PathBuf::as_path).collect();
+        Ok(check_targets(&targets, &inputs, a.force)?)
+    };
+    check_all(&[])?;
     let exp_bytes = pathsieve::input_text::read_bytes(&a.experiment)?;
     let exp_text = String::from_utf8_lossy(&exp_bytes).into_owned();
     let exp = parse_experiment(&exp_text, &a.experiment)?;
-    let outputs = planned_outputs(&a, &exp.field_names());
-    let files_only = split_stdout(&outputs)?;
-    let targets: Vec<&Path> = files_only.iter().map(PathBuf::as_path).collect();
-    let mut inputs = vec![a.experiment.as_path(), a.cycle.as_path()];
-    inputs.extend(a.shaper.as_deref());
-    check_targets(&targets, &inputs, a.force)?;
+    if a.per_field {
+        check_all(&exp.field_names())?;
+    }
     let cycle = read_cycle(&a.cycle, None)?;
     let sel = Selection::new(&exp, &SelectionRequest::default())?;
     let row_order = match a.order {
