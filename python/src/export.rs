@@ -89,6 +89,7 @@ fn meta(experiment: &PyExperiment, p: &ExportPlan, content: &str, unit: String) 
         weights: exported_weights(&p.list),
         layout: None,
         pixel_freqs_thz: None,
+        scan: None,
     }
 }
 

@@ -88,9 +88,55 @@ pub struct ExportArgs {
     /// Shaper description (TOML) for mask-csv, mask-npy and npz (docs/export-formats.md).
     #[arg(long, value_name = "shaper.toml")]
     pub shaper: Option<PathBuf>,
+    /// Scan a shaper pulse's delay, FIELD=DELAYS in fs (START:STEP:STOP or a list a,b,c): the
+    /// delay after the pulse before it in the shaper file (t1, t2, ...; later pulses move with
+    /// it); repeat for a second pulse. Masks become delays x steps x pixels (mask-csv: one
+    /// file per delay, OUT.delayK.csv).
+    #[arg(long, value_name = "FIELD=DELAYS")]
+    pub scan: Vec<String>,
+    /// Write masks whose spectral phase changes by more than half a turn between adjacent
+    /// pixels, with a warning, instead of refusing them.
+    #[arg(long)]
+    pub allow_aliasing: bool,
     /// Overwrite existing files.
     #[arg(long)]
     pub force: bool,
+}
+
+/// One `--scan FIELD=DELAYS`, parsed.
+pub fn parse_scan(text: &str) -> anyhow::Result<(String, Vec<f64>)> {
+    let Some((f, d)) = text.split_once('=') else {
+        bail!("--scan `{text}`: write FIELD=DELAYS, e.g. --scan 2=0:10:500 (fs)");
+    };
+    let delays = pathsieve::simulate::grid::parse_delays(d, 1.0)
+        .map_err(|m| anyhow::anyhow!("--scan {}: {m}", f.trim()))?;
+    Ok((f.trim().to_string(), delays))
+}
+
+impl ExportArgs {
+    /// The number of scan points (1 without --scan).
+    pub fn scan_points(&self) -> usize {
+        self.scan
+            .iter()
+            .filter_map(|t| parse_scan(t).ok())
+            .map(|(_, d)| d.len())
+            .product()
+    }
+
+    /// The mask CSV of scan point `p` (`OUT.delayK.csv`, K zero-padded).
+    pub fn delay_path(&self, p: usize) -> PathBuf {
+        let width = (self.scan_points().max(1) - 1).to_string().len();
+        let stem = self
+            .out
+            .file_stem()
+            .map_or_else(String::new, |s| s.to_string_lossy().into_owned());
+        let ext = self
+            .out
+            .extension()
+            .map_or_else(|| "csv".to_string(), |e| e.to_string_lossy().into_owned());
+        self.out
+            .with_file_name(format!("{stem}.delay{p:0width$}.{ext}"))
+    }
 }
 
 impl ExportArgs {
@@ -117,6 +163,8 @@ fn planned_outputs(a: &ExportArgs, fields: &[String]) -> Vec<PathBuf> {
     if a.per_field {
         v.extend(fields.iter().map(|f| a.field_path(f)));
         v.push(sidecar_path(&a.out));
+    } else if a.format == Format::MaskCsv && !a.scan.is_empty() {
+        v.extend((0..a.scan_points()).map(|p| a.delay_path(p)));
     } else {
         v.push(a.out.clone());
         if matches!(a.format, Format::Npy | Format::MaskNpy) || a.is_plain() {
@@ -150,6 +198,15 @@ fn validate(a: &ExportArgs) -> anyhow::Result<()> {
     }
     if a.per_field && !a.is_plain() {
         bail!("--per-field goes with --format plain-csv or plain-tsv");
+    }
+    if !a.scan.is_empty() && a.shaper.is_none() {
+        bail!("--scan goes with a mask export: --format mask-csv, mask-npy or npz with --shaper");
+    }
+    if !a.scan.is_empty() && a.format == Format::MaskCsv && super::stdio::is_dash(&a.out) {
+        bail!("--scan with mask-csv writes one file per delay; give --out a file name, not `-`");
+    }
+    for t in &a.scan {
+        parse_scan(t)?;
     }
     check_one_stdin(&[Some(&a.experiment), Some(&a.cycle), a.shaper.as_deref()])
 }
@@ -218,7 +275,7 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
     };
     let Built { files, mask_csv } = build(&job)?;
     let steps = list.len();
-    let names = write_outputs(files, mask_csv.map(|m| (a.out.clone(), m)), a.force)?;
+    let names = write_outputs(files, mask_csv, a.force)?;
     eprintln!("wrote {} ({steps} steps)", names.join(", "));
     if !report.clean {
         eprintln!("warning: the cycle leaks (exact check); run `pathsieve check` for details");

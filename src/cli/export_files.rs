@@ -2,11 +2,14 @@
 //! sidecar, the weights, the receiver/LO table and the masks, with the metadata each carries.
 //! Writing them is `export_cmd`'s job (through `stdio::write_outputs`).
 
-use super::export_cmd::{ExportArgs, Format};
+use super::export_cmd::{parse_scan, ExportArgs, Format};
 use anyhow::bail;
 use pathsieve::cycle::Cycle;
-use pathsieve::export::mask::{mask_set_npy, masks_for_cycle, write_mask_set_csv, MaskSet};
-use pathsieve::export::meta::{sha256_hex, sidecar_path, ExportMeta};
+use pathsieve::export::mask::{mask_set_npy, write_mask_set_csv, MaskSet};
+use pathsieve::export::mask_scan::{
+    first_aliasing, mask_scan, mask_scan_npy, Aliasing, MaskScan, ScanAxis,
+};
+use pathsieve::export::meta::{sha256_hex, sidecar_path, ExportMeta, ScanMeta};
 use pathsieve::export::npy::{npy_f64, npy_text};
 use pathsieve::export::npz::write_npz;
 use pathsieve::export::phase_formats::{
@@ -45,8 +48,8 @@ pub struct Job<'a> {
 pub struct Built<'a> {
     /// (path, bytes) of every file but the streamed one.
     pub files: Vec<(PathBuf, Vec<u8>)>,
-    /// The mask CSV, written piece by piece into OUT.
-    pub mask_csv: Option<Filler<'a>>,
+    /// The mask CSVs (OUT, or one per scan point), written piece by piece.
+    pub mask_csv: Vec<(PathBuf, Filler<'a>)>,
 }
 
 fn name_of(p: &Path) -> String {
@@ -80,6 +83,7 @@ impl Job<'_> {
             weights: Vec::new(),
             layout: None,
             pixel_freqs_thz: None,
+            scan: None,
         }
     }
 
@@ -106,7 +110,7 @@ pub fn build<'a>(job: &'a Job<'a>) -> anyhow::Result<Built<'a>> {
         job.list.cells(job.unit, job.grid)?
     };
     let mut files = Vec::new();
-    let mut mask_csv = None;
+    let mut mask_csv = Vec::new();
     match a.format {
         Format::Csv => {
             let m = job.meta("phases", job.unit_name(), job.notes.clone());
@@ -131,24 +135,25 @@ pub fn build<'a>(job: &'a Job<'a>) -> anyhow::Result<Built<'a>> {
         }
         Format::Npz => files.push((a.out.clone(), npz_bytes(job, &cells)?)),
         Format::MaskCsv | Format::MaskNpy => {
-            let (set, n) = masks(job)?;
+            let (scan, n) = masks(job)?;
             if a.format == Format::MaskCsv {
-                let m = job.meta("shaper masks", "turns".into(), n);
-                let comments = m.csv_comments();
-                let fill = move |w: &mut dyn std::io::Write| {
-                    w.write_all(comments.as_bytes())?;
-                    write_mask_set_csv(&set, w)
-                };
-                mask_csv = Some(Box::new(fill) as Filler<'a>);
+                mask_csv = mask_csv_files(job, scan, n);
             } else {
                 let mut n = n;
                 n.push(format!(
-                    "{} holds the masks, complex128, shape (steps, pixels); the pixel frequencies (THz) are the array `pixel_freqs_thz` here",
-                    name_of(&a.out)
+                    "{} holds the masks, complex128, shape {}; the pixel frequencies (THz) are the array `pixel_freqs_thz` here",
+                    name_of(&a.out),
+                    if a.scan.is_empty() { "(steps, pixels)" } else { "(delays, steps, pixels), delays as in `scan`" }
                 ));
                 let mut m = job.meta("shaper masks", "turns".into(), n);
-                m.pixel_freqs_thz = Some(set.freqs_thz.clone());
-                files.push((a.out.clone(), mask_set_npy(&set)?));
+                m.pixel_freqs_thz = Some(scan.0.freqs_thz.clone());
+                m.scan = scan.1.clone();
+                let bytes = if a.scan.is_empty() {
+                    mask_set_npy(&point_set(&scan.0, 0))?
+                } else {
+                    mask_scan_npy(&scan.0)?
+                };
+                files.push((a.out.clone(), bytes));
                 files.push((sidecar_path(&a.out), m.json_bytes()));
             }
         }
@@ -212,42 +217,148 @@ fn npz_bytes(job: &Job<'_>, cells: &[Vec<Cell>]) -> anyhow::Result<Vec<u8>> {
     if !job.list.outputs.is_empty() {
         members.push(("weights".into(), weights_npy(job.list)?));
     }
+    let mut scan_meta = None;
     if job.args.shaper.is_some() {
-        let (set, mn) = masks(job)?;
-        n.extend(mn);
-        n.push("masks: complex128, steps x pixels; pixel_freqs_thz: float64, pixels".into());
-        members.push(("masks".into(), mask_set_npy(&set)?));
-        members.push(("pixel_freqs_thz".into(), npy_f64(&[set.freqs_thz.len()], &set.freqs_thz)?));
+        let ((scan, sm), mn) = masks(job)?;
+        n = mn;
+        let f = &scan.freqs_thz;
+        if let Some(sm) = &sm {
+            n.push("masks: complex128, delays x steps x pixels; delays_fs: float64, delays x scanned pulses; pixel_freqs_thz: float64, pixels".into());
+            members.push(("masks".into(), mask_scan_npy(&scan)?));
+            let flat: Vec<f64> = sm.delays_fs.iter().flatten().copied().collect();
+            members.push(("delays_fs".into(), npy_f64(&[sm.delays_fs.len(), sm.fields.len()], &flat)?));
+        } else {
+            n.push("masks: complex128, steps x pixels; pixel_freqs_thz: float64, pixels".into());
+            members.push(("masks".into(), mask_set_npy(&point_set(&scan, 0))?));
+        }
+        members.push(("pixel_freqs_thz".into(), npy_f64(&[f.len()], f)?));
+        scan_meta = sm;
     }
     let mut m = job.meta("phases+weights", job.unit_name(), n);
+    m.scan = scan_meta;
     m.weights = exported_weights(job.list);
     let json = String::from_utf8(m.json_bytes()).unwrap_or_default();
     members.push(("meta".into(), npy_text(json.trim_end())?));
     write_npz(&members).map_err(|e| anyhow::anyhow!("{}: {e}", job.args.out.display()))
 }
 
-/// The masks of every step, and the notes describing them.
-fn masks(job: &Job<'_>) -> anyhow::Result<(MaskSet, Vec<String>)> {
+/// The masks of every scan point and step (one point without --scan) with the scan's
+/// metadata, and the notes describing them; refuses aliased masks unless --allow-aliasing.
+fn masks(job: &Job<'_>) -> anyhow::Result<((MaskScan, Option<ScanMeta>), Vec<String>)> {
     let sp = job.args.shaper.as_deref().unwrap_or(Path::new(""));
     let text = pathsieve::input_text::read_text(sp)?;
     let shaper = parse_shaper(&text, sp)?;
     let phases = shaper
         .step_phases(job.list)
         .map_err(|m| anyhow::anyhow!("{m}"))?;
-    let set = masks_for_cycle(&shaper.spec, &phases)?;
+    let mut axes = Vec::new();
+    let mut fields = Vec::new();
+    for t in &job.args.scan {
+        let (field, delays_fs) = parse_scan(t)?;
+        let Some(subpulse) = shaper.fields.iter().position(|f| *f == field) else {
+            bail!(
+                "--scan {field}: the shaper file {} has no pulse for field `{field}` (pulses: {})",
+                sp.display(),
+                shaper.fields.join(", ")
+            );
+        };
+        axes.push(ScanAxis { subpulse, delays_fs });
+        fields.push(field);
+    }
+    let scan = mask_scan(&shaper.spec, &axes, &phases)?;
     let mut n = job.notes.clone();
+    let nonzero: Vec<bool> = shaper.spec.subpulses.iter().map(|s| s.amplitude > 0.0).collect();
+    if let Some(al) = first_aliasing(&scan.freqs_thz, &scan.subpulse_delays_fs, &nonzero) {
+        let msg = aliasing_text(&al, &scan, &fields, &shaper.fields);
+        if !job.args.allow_aliasing {
+            bail!("{msg}; use a shorter delay or finer pixels, or --allow-aliasing to write the masks anyway");
+        }
+        eprintln!("warning: {msg}");
+        n.push(format!("ALIASED: {msg}"));
+    }
     n.push(format!(
         "shaper {} (sha256 {}): sub-pulses for fields {}; pixels {}; scale {:?}; rotating frame {}",
         name_of(sp),
         sha256_hex(text.as_bytes()),
         shaper.fields.join(", "),
-        set.freqs_thz.len(),
-        set.scale,
-        set.rotating_frame_thz
+        scan.freqs_thz.len(),
+        scan.scale,
+        shaper.spec.rotating_frame_thz
             .map_or("none (lab frame)".into(), |f| format!("{f:?} THz"))
     ));
     n.push("M(omega) = scale * sum_j a_j exp(i 2pi phi_j) exp(i (omega - omega_0) tau_j); conventions in docs/shaper-masks.md".into());
-    Ok((set, n))
+    let meta = (!axes.is_empty()).then(|| ScanMeta {
+        fields,
+        delays_fs: scan.points_fs.clone(),
+        subpulse_delays_fs: scan.subpulse_delays_fs.clone(),
+    });
+    Ok(((scan, meta), n))
+}
+
+/// The aliasing refusal or warning, naming the delay point, the pulse and the pixels.
+fn aliasing_text(al: &Aliasing, scan: &MaskScan, scanned: &[String], pulses: &[String]) -> String {
+    let point = if scanned.is_empty() {
+        String::new()
+    } else {
+        let d: Vec<String> = scanned
+            .iter()
+            .zip(&scan.points_fs[al.point])
+            .map(|(f, t)| format!("{f} = {t} fs"))
+            .collect();
+        format!("at scan point {} ({}), ", al.point, d.join(", "))
+    };
+    format!(
+        "{point}the spectral phase of the pulse of field `{}` (delay {} fs from time zero) changes by {:.6} turn between pixels {} and {} ({} and {} THz), more than half a turn: the shaper cannot make that delay (aliasing)",
+        pulses.get(al.subpulse).map_or("?", String::as_str),
+        al.delay_fs,
+        al.turns_per_pixel,
+        al.pixel,
+        al.pixel + 1,
+        scan.freqs_thz[al.pixel],
+        scan.freqs_thz[al.pixel + 1]
+    )
+}
+
+/// The masks of one scan point as a [`MaskSet`] (for the CSV and 2-D NPY writers).
+fn point_set(scan: &MaskScan, p: usize) -> MaskSet {
+    MaskSet {
+        freqs_thz: scan.freqs_thz.clone(),
+        masks: scan.masks[p].clone(),
+        scale: scan.scale,
+        rotating_frame_thz: scan.rotating_frame_thz,
+    }
+}
+
+/// The mask CSV (one per scan point with --scan), streamed point by point.
+fn mask_csv_files<'a>(
+    job: &Job<'_>,
+    scan: (MaskScan, Option<ScanMeta>),
+    notes: Vec<String>,
+) -> Vec<(PathBuf, Filler<'a>)> {
+    let a = job.args;
+    let scan = std::rc::Rc::new(scan.0);
+    let points = if a.scan.is_empty() { 1 } else { scan.masks.len() };
+    (0..points)
+        .map(|p| {
+            let mut n = notes.clone();
+            let path = if a.scan.is_empty() {
+                a.out.clone()
+            } else {
+                n.push(format!(
+                    "scan point {p} of {points}: sub-pulse delays from time zero {:?} fs",
+                    scan.subpulse_delays_fs[p]
+                ));
+                a.delay_path(p)
+            };
+            let comments = job.meta("shaper masks", "turns".into(), n).csv_comments();
+            let s = std::rc::Rc::clone(&scan);
+            let fill = move |w: &mut dyn std::io::Write| {
+                w.write_all(comments.as_bytes())?;
+                write_mask_set_csv(&point_set(&s, p), w)
+            };
+            (path, Box::new(fill) as Filler<'a>)
+        })
+        .collect()
 }
 
 /// The weights file and its sidecar, if asked for.

@@ -51,7 +51,7 @@ pub fn split_stdout(outputs: &[PathBuf]) -> anyhow::Result<Vec<PathBuf>> {
 /// Returns the names written, `-` shown as `stdout`.
 pub fn write_outputs<'a>(
     files: Vec<(PathBuf, Vec<u8>)>,
-    stream: Option<(PathBuf, pathsieve::safe_write::Filler<'a>)>,
+    streams: Vec<(PathBuf, pathsieve::safe_write::Filler<'a>)>,
     force: bool,
 ) -> anyhow::Result<Vec<String>> {
     let mut to_stdout: Option<Content<'_>> = None;
@@ -65,12 +65,12 @@ pub fn write_outputs<'a>(
             set.push((p.clone(), Content::Bytes(b.as_slice())));
         }
     }
-    if let Some((p, fill)) = stream {
-        names.insert(0, name(&p));
+    for (k, (p, fill)) in streams.into_iter().enumerate() {
+        names.insert(k, name(&p));
         if is_dash(&p) {
             to_stdout = Some(Content::Stream(fill));
         } else {
-            set.insert(0, (p, Content::Stream(fill)));
+            set.insert(k, (p, Content::Stream(fill)));
         }
     }
     write_set_atomic(set, force)?;

@@ -77,6 +77,20 @@ pub struct ExportMeta {
     /// The centre frequency of every shaper pixel in THz, for mask exports.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub pixel_freqs_thz: Option<Vec<f64>>,
+    /// The delay scan of a mask export: the masks' first axis runs over its points.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub scan: Option<ScanMeta>,
+}
+
+/// The delay scan of a mask export (docs/shaper-masks.md).
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct ScanMeta {
+    /// The scanned pulses' fields, one per column of `delays_fs`.
+    pub fields: Vec<String>,
+    /// Per scan point, each scanned pulse's delay after the pulse before it (fs).
+    pub delays_fs: Vec<Vec<f64>>,
+    /// Per scan point, every sub-pulse's delay from time zero (fs), in shaper file order.
+    pub subpulse_delays_fs: Vec<Vec<f64>>,
 }
 
 /// `text` with every non-ASCII character escaped: `\uXXXX` (UTF-16 units, so JSON reads it

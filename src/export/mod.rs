@@ -7,6 +7,7 @@
 
 pub mod array_import;
 pub mod mask;
+pub mod mask_scan;
 pub mod meta;
 pub mod npy;
 pub mod npz;

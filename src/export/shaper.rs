@@ -1,5 +1,6 @@
 //! The shaper description file (`--shaper shaper.toml`, docs/export-formats.md): this module
-//! owns reading it — pixel calibration (linear or a table), one sub-pulse per field with its
+//! owns reading it — pixel calibration (linear in THz, a THz table, linear in wavelength (nm)
+//! or a wavelength table, converted with nu = c / lambda), one sub-pulse per field with its
 //! delay (fs), amplitude and phase offset (turns), and the rotating-frame frequency (THz) — and
 //! mapping the rows of a [`PhaseList`] onto the sub-pulses, giving the per-step phases
 //! [`super::mask::masks_for_cycle`] takes. The field's cycle phase is added to the pulse's own
@@ -32,6 +33,39 @@ enum CalibrationFile {
     Table {
         frequencies_thz: Vec<f64>,
     },
+    /// Evenly spaced in wavelength (nm); the pixel frequencies are c / lambda.
+    Wavelength {
+        pixels: usize,
+        first_nm: f64,
+        step_nm: f64,
+    },
+    /// Measured wavelengths (nm), one per pixel.
+    #[serde(rename = "wavelength-table")]
+    WavelengthTable {
+        wavelengths_nm: Vec<f64>,
+    },
+}
+
+/// The speed of light in nm THz (c = 299 792 458 m/s exactly, SI definition): nu = C / lambda.
+pub const C_NM_THZ: f64 = 299_792.458;
+
+/// Pixel frequencies (THz) of wavelengths (nm); a wavelength <= 0 or not finite is refused.
+fn thz_of_nm(nm: &[f64], path: &Path) -> Result<Vec<f64>, InputError> {
+    nm.iter()
+        .enumerate()
+        .map(|(k, &l)| {
+            if l.is_finite() && l > 0.0 {
+                Ok(C_NM_THZ / l)
+            } else {
+                Err(InputError::new(
+                    path,
+                    None,
+                    Some("calibration"),
+                    format!("pixel {k} is at wavelength {l} nm; wavelengths must be > 0"),
+                ))
+            }
+        })
+        .collect()
 }
 
 #[derive(Deserialize)]
@@ -88,6 +122,20 @@ pub fn parse_shaper(text: &str, path: &Path) -> Result<Shaper, InputError> {
             step_thz,
         },
         CalibrationFile::Table { frequencies_thz } => Calibration::Table(frequencies_thz),
+        CalibrationFile::Wavelength {
+            pixels,
+            first_nm,
+            step_nm,
+        } => {
+            if !(1..=super::mask::MAX_PIXELS).contains(&pixels) {
+                return Err(InputError::new(path, None, Some("calibration"), format!("calibration has {pixels} pixels; it must have 1..={}", super::mask::MAX_PIXELS)));
+            }
+            let nm: Vec<f64> = (0..pixels).map(|k| first_nm + k as f64 * step_nm).collect();
+            Calibration::Table(thz_of_nm(&nm, path)?)
+        }
+        CalibrationFile::WavelengthTable { wavelengths_nm } => {
+            Calibration::Table(thz_of_nm(&wavelengths_nm, path)?)
+        }
     };
     let mut fields: Vec<String> = Vec::new();
     for p in &f.pulses {
