@@ -65,12 +65,14 @@ static STDIN: std::sync::OnceLock<Result<Vec<u8>, String>> = std::sync::OnceLock
 
 fn read_stdin(path: &Path, limit: u64) -> Result<Vec<u8>, InputError> {
     let got = STDIN.get_or_init(|| {
-        read_capped(std::io::stdin().lock(), crate::limits::MAX_FILE_BYTES.max(limit)).map_err(
-            |e| match e {
-                CappedError::TooBig => String::new(),
-                CappedError::Io(e) => format!("cannot read standard input: {e}"),
-            },
+        read_capped(
+            std::io::stdin().lock(),
+            crate::limits::MAX_FILE_BYTES.max(limit),
         )
+        .map_err(|e| match e {
+            CappedError::TooBig => String::new(),
+            CappedError::Io(e) => format!("cannot read standard input: {e}"),
+        })
     });
     match got {
         Ok(b) if b.len() as u64 > limit => Err(too_big(path, limit, None)),

@@ -57,7 +57,10 @@ fn numbers(path: &Path) -> (Vec<String>, Vec<Vec<f64>>) {
         .map(|rec| {
             rec.unwrap()
                 .iter()
-                .map(|c| c.parse::<f64>().unwrap_or_else(|_| panic!("{c} in {path:?}")))
+                .map(|c| {
+                    c.parse::<f64>()
+                        .unwrap_or_else(|_| panic!("{c} in {path:?}"))
+                })
                 .collect()
         })
         .collect();
@@ -69,13 +72,27 @@ fn plain_tables_are_numbers_only_and_check_reads_them_back_to_the_same_verdict()
     let d = tempfile::tempdir().unwrap();
     for (k, (exp, cyc)) in CASES.iter().enumerate() {
         let e = read_experiment(&root(exp)).unwrap();
-        let original = check_cycle(&e, &read_cycle(&root(cyc), None).unwrap(), &CheckRequest::default()).unwrap();
+        let original = check_cycle(
+            &e,
+            &read_cycle(&root(cyc), None).unwrap(),
+            &CheckRequest::default(),
+        )
+        .unwrap();
         for (fmt, ext) in [("plain-csv", "csv"), ("plain-tsv", "tsv")] {
             for unit in ["turns", "deg", "rad", "index"] {
                 let p = d.path().join(format!("{k}-{unit}.{ext}"));
                 let (code, _, err) = run(&[
-                    "export", exp, cyc, "--format", fmt, "--unit", unit, "--order", "drift",
-                    "--out", s(&p),
+                    "export",
+                    exp,
+                    cyc,
+                    "--format",
+                    fmt,
+                    "--unit",
+                    unit,
+                    "--order",
+                    "drift",
+                    "--out",
+                    s(&p),
                 ]);
                 assert_eq!(code, 0, "{err}");
                 let text = std::fs::read_to_string(&p).unwrap();
@@ -108,8 +125,17 @@ fn weights_and_receiver_tables_agree_with_the_cycle() {
         d.path().join("rx.csv"),
     );
     let (code, _, err) = run(&[
-        "export", exp, cyc, "--format", "plain-csv", "--out", s(&p), "--weights", s(&w),
-        "--receiver", s(&r),
+        "export",
+        exp,
+        cyc,
+        "--format",
+        "plain-csv",
+        "--out",
+        s(&p),
+        "--weights",
+        s(&w),
+        "--receiver",
+        s(&r),
     ]);
     assert_eq!(code, 0, "{err}");
     for f in [&p, &w, &r] {
@@ -127,13 +153,24 @@ fn weights_and_receiver_tables_agree_with_the_cycle() {
             let (phase, amp) = (rr[1 + 2 * o], rr[2 + 2 * o]);
             let z = num_complex::Complex64::from_polar(amp / n, -std::f64::consts::TAU * phase);
             assert!((z.re - wr[1 + 2 * o]).abs() < 1e-12 && (z.im - wr[2 + 2 * o]).abs() < 1e-12);
-            assert!((amp - 1.0).abs() < 1e-12, "lattice weights have unit modulus");
+            assert!(
+                (amp - 1.0).abs() < 1e-12,
+                "lattice weights have unit modulus"
+            );
         }
     }
     // One file per field, a single column each.
     let pf = d.path().join("f.csv");
     let (code, _, err) = run(&[
-        "export", exp, cyc, "--format", "plain-csv", "--per-field", "--unit", "deg", "--out",
+        "export",
+        exp,
+        cyc,
+        "--format",
+        "plain-csv",
+        "--per-field",
+        "--unit",
+        "deg",
+        "--out",
         s(&pf),
     ]);
     assert_eq!(code, 0, "{err}");
@@ -141,7 +178,9 @@ fn weights_and_receiver_tables_agree_with_the_cycle() {
         let (h, rows) = numbers(&d.path().join(format!("f.{f}.csv")));
         assert_eq!(h, vec![f.to_string()]);
         assert_eq!(rows.len(), 27);
-        assert!(rows.iter().all(|r| r.len() == 1 && [0.0, 120.0, 240.0].contains(&r[0])));
+        assert!(rows
+            .iter()
+            .all(|r| r.len() == 1 && [0.0, 120.0, 240.0].contains(&r[0])));
     }
 }
 
@@ -210,7 +249,10 @@ fn dash_is_stdin_and_stdout_and_multi_file_outputs_refuse_it() {
         assert!(out.is_empty() && err.contains("-.meta.json"), "{err}");
     }
     // design --out - : the cycle file on stdout, checked from stdin.
-    let (code, cycle, err) = run_stdin(&["design", "schemes/two-level-emission.toml", "--out", "-"], b"");
+    let (code, cycle, err) = run_stdin(
+        &["design", "schemes/two-level-emission.toml", "--out", "-"],
+        b"",
+    );
     assert_eq!(code, 0, "{err}");
     assert!(err.contains("steps"), "the report goes to stderr: {err}");
     let (code, _, err) = run_stdin(&["check", "schemes/two-level-emission.toml", "-"], &cycle);
@@ -222,19 +264,31 @@ fn completions_man_and_help_with_examples_and_exit_codes() {
     for shell in ["bash", "zsh", "fish", "powershell", "elvish"] {
         let (code, out, err) = run(&["completions", shell]);
         assert_eq!(code, 0, "{err}");
-        assert!(out.contains("pathsieve") && out.contains("export"), "{shell}");
+        assert!(
+            out.contains("pathsieve") && out.contains("export"),
+            "{shell}"
+        );
     }
     let (code, out, _) = run(&["man"]);
     assert_eq!(code, 0);
-    assert!(out.starts_with(".ie") || out.contains(".TH pathsieve"), "{}", &out[..200.min(out.len())]);
+    assert!(
+        out.starts_with(".ie") || out.contains(".TH pathsieve"),
+        "{}",
+        &out[..200.min(out.len())]
+    );
     let (code, out, _) = run(&["man", "check"]);
     assert_eq!(code, 0);
     assert!(out.contains("pathsieve\\-check") || out.contains("pathsieve-check"));
     assert_eq!(run(&["man", "nosuch"]).0, 2);
-    for cmd in ["pathways", "agnostic", "design", "check", "export", "combine", "draw"] {
+    for cmd in [
+        "pathways", "agnostic", "design", "check", "export", "combine", "draw",
+    ] {
         let (code, out, _) = run(&[cmd, "--help"]);
         assert_eq!(code, 0);
-        assert!(out.contains("Example") && out.contains("Exit codes"), "{cmd}: {out}");
+        assert!(
+            out.contains("Example") && out.contains("Exit codes"),
+            "{cmd}: {out}"
+        );
     }
     let (_, out, _) = run(&["--help"]);
     assert!(out.contains("130") && out.contains("index:M"), "{out}");
@@ -242,11 +296,22 @@ fn completions_man_and_help_with_examples_and_exit_codes() {
 
 #[test]
 fn the_design_table_fits_80_columns() {
-    for exp in [DYE, "schemes/ladder-heterodyne.toml", "schemes/photocurrent-fifth-order.toml"] {
+    for exp in [
+        DYE,
+        "schemes/ladder-heterodyne.toml",
+        "schemes/photocurrent-fifth-order.toml",
+    ] {
         let (code, out, err) = run(&["design", exp]);
         assert!(code == 0 || code == 1, "{err}");
-        for l in out.lines().filter(|l| l.starts_with(['┌', '│', '├', '└', '╞'])) {
-            assert!(l.chars().count() <= 80, "{exp}: {} columns: {l}", l.chars().count());
+        for l in out
+            .lines()
+            .filter(|l| l.starts_with(['┌', '│', '├', '└', '╞']))
+        {
+            assert!(
+                l.chars().count() <= 80,
+                "{exp}: {} columns: {l}",
+                l.chars().count()
+            );
         }
     }
     // e(x) notation for a 27-step nested design with three outputs.

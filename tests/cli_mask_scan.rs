@@ -36,13 +36,24 @@ fn a_t1_scan_gives_every_mask_with_its_peaks_at_the_requested_delay() {
     let out = d.path().join("scan.npy");
     // 128 pixels of 0.025 THz: one DFT bin is 1 / (128 x 0.025 THz) = 312.5 fs.
     let (code, _, err) = common::run_cli(&[
-        "export", EXP, CYC, "--format", "mask-npy", "--shaper", SHAPER, "--scan",
-        "pu2=0:312.5:3125", "--out", s(&out),
+        "export",
+        EXP,
+        CYC,
+        "--format",
+        "mask-npy",
+        "--shaper",
+        SHAPER,
+        "--scan",
+        "pu2=0:312.5:3125",
+        "--out",
+        s(&out),
     ]);
     assert_eq!(code, 0, "{err}");
     let a = read_npy(&std::fs::read(&out).unwrap()).unwrap();
     assert_eq!(a.shape, [11, 4, 128]);
-    let NpyData::C128(v) = a.data else { panic!("not complex") };
+    let NpyData::C128(v) = a.data else {
+        panic!("not complex")
+    };
     for p in 0..11 {
         for m in 0..4 {
             let mask = &v[(p * 4 + m) * 128..(p * 4 + m + 1) * 128];
@@ -63,13 +74,26 @@ fn a_t1_scan_gives_every_mask_with_its_peaks_at_the_requested_delay() {
     // One CSV per delay.
     let csv = d.path().join("m.csv");
     let (code, _, err) = common::run_cli(&[
-        "export", EXP, CYC, "--format", "mask-csv", "--shaper", SHAPER, "--scan", "pu2=0,600",
-        "--out", s(&csv),
+        "export",
+        EXP,
+        CYC,
+        "--format",
+        "mask-csv",
+        "--shaper",
+        SHAPER,
+        "--scan",
+        "pu2=0,600",
+        "--out",
+        s(&csv),
     ]);
     assert_eq!(code, 0, "{err}");
     for p in ["m.delay0.csv", "m.delay1.csv"] {
         let t = std::fs::read_to_string(d.path().join(p)).unwrap();
-        assert_eq!(t.lines().filter(|l| !l.starts_with('#')).count(), 1 + 4 * 128, "{p}");
+        assert_eq!(
+            t.lines().filter(|l| !l.starts_with('#')).count(),
+            1 + 4 * 128,
+            "{p}"
+        );
     }
 }
 
@@ -79,8 +103,18 @@ fn aliasing_is_refused_exactly_past_half_a_turn_per_pixel() {
     let out = d.path().join("a.npy");
     let run = |delays: &str, allow: bool| {
         let mut args = vec![
-            "export", EXP, CYC, "--format", "mask-npy", "--shaper", SHAPER, "--scan", delays,
-            "--out", s(&out), "--force",
+            "export",
+            EXP,
+            CYC,
+            "--format",
+            "mask-npy",
+            "--shaper",
+            SHAPER,
+            "--scan",
+            delays,
+            "--out",
+            s(&out),
+            "--force",
         ];
         if allow {
             args.push("--allow-aliasing");
@@ -93,7 +127,9 @@ fn aliasing_is_refused_exactly_past_half_a_turn_per_pixel() {
     let (code, _, err) = run("pu2=19000,20000,20000.01", false);
     assert_eq!(code, 2);
     assert!(
-        err.contains("scan point 2") && err.contains("pu2 = 20000.01 fs") && err.contains("between pixels 0 and 1"),
+        err.contains("scan point 2")
+            && err.contains("pu2 = 20000.01 fs")
+            && err.contains("between pixels 0 and 1"),
         "{err}"
     );
     let (code, _, err) = run("pu2=19000,20000,20000.01", true);

@@ -146,11 +146,23 @@ impl ExportArgs {
 
     /// The per-field file of `field`: OUT's stem, the field, OUT's extension.
     pub fn field_path(&self, field: &str) -> PathBuf {
-        let stem = self.out.file_stem().map_or_else(String::new, |s| s.to_string_lossy().into_owned());
-        let ext = self.out.extension().map_or_else(|| "csv".to_string(), |e| e.to_string_lossy().into_owned());
+        let stem = self
+            .out
+            .file_stem()
+            .map_or_else(String::new, |s| s.to_string_lossy().into_owned());
+        let ext = self
+            .out
+            .extension()
+            .map_or_else(|| "csv".to_string(), |e| e.to_string_lossy().into_owned());
         let safe: String = field
             .chars()
-            .map(|c| if c.is_alphanumeric() || c == '-' || c == '_' { c } else { '_' })
+            .map(|c| {
+                if c.is_alphanumeric() || c == '-' || c == '_' {
+                    c
+                } else {
+                    '_'
+                }
+            })
             .collect();
         self.out.with_file_name(format!("{stem}.{safe}.{ext}"))
     }

@@ -226,7 +226,10 @@ fn npz_bytes(job: &Job<'_>, cells: &[Vec<Cell>]) -> anyhow::Result<Vec<u8>> {
             n.push("masks: complex128, delays x steps x pixels; delays_fs: float64, delays x scanned pulses; pixel_freqs_thz: float64, pixels".into());
             members.push(("masks".into(), mask_scan_npy(&scan)?));
             let flat: Vec<f64> = sm.delays_fs.iter().flatten().copied().collect();
-            members.push(("delays_fs".into(), npy_f64(&[sm.delays_fs.len(), sm.fields.len()], &flat)?));
+            members.push((
+                "delays_fs".into(),
+                npy_f64(&[sm.delays_fs.len(), sm.fields.len()], &flat)?,
+            ));
         } else {
             n.push("masks: complex128, steps x pixels; pixel_freqs_thz: float64, pixels".into());
             members.push(("masks".into(), mask_set_npy(&point_set(&scan, 0))?));
@@ -242,9 +245,12 @@ fn npz_bytes(job: &Job<'_>, cells: &[Vec<Cell>]) -> anyhow::Result<Vec<u8>> {
     write_npz(&members).map_err(|e| anyhow::anyhow!("{}: {e}", job.args.out.display()))
 }
 
+/// A computed scan and its metadata (`None` without --scan).
+type Scan = (MaskScan, Option<ScanMeta>);
+
 /// The masks of every scan point and step (one point without --scan) with the scan's
 /// metadata, and the notes describing them; refuses aliased masks unless --allow-aliasing.
-fn masks(job: &Job<'_>) -> anyhow::Result<((MaskScan, Option<ScanMeta>), Vec<String>)> {
+fn masks(job: &Job<'_>) -> anyhow::Result<(Scan, Vec<String>)> {
     let sp = job.args.shaper.as_deref().unwrap_or(Path::new(""));
     let text = pathsieve::input_text::read_text(sp)?;
     let shaper = parse_shaper(&text, sp)?;
@@ -262,12 +268,20 @@ fn masks(job: &Job<'_>) -> anyhow::Result<((MaskScan, Option<ScanMeta>), Vec<Str
                 shaper.fields.join(", ")
             );
         };
-        axes.push(ScanAxis { subpulse, delays_fs });
+        axes.push(ScanAxis {
+            subpulse,
+            delays_fs,
+        });
         fields.push(field);
     }
     let scan = mask_scan(&shaper.spec, &axes, &phases)?;
     let mut n = job.notes.clone();
-    let nonzero: Vec<bool> = shaper.spec.subpulses.iter().map(|s| s.amplitude > 0.0).collect();
+    let nonzero: Vec<bool> = shaper
+        .spec
+        .subpulses
+        .iter()
+        .map(|s| s.amplitude > 0.0)
+        .collect();
     if let Some(al) = first_aliasing(&scan.freqs_thz, &scan.subpulse_delays_fs, &nonzero) {
         let msg = aliasing_text(&al, &scan, &fields, &shaper.fields);
         if !job.args.allow_aliasing {
@@ -283,7 +297,9 @@ fn masks(job: &Job<'_>) -> anyhow::Result<((MaskScan, Option<ScanMeta>), Vec<Str
         shaper.fields.join(", "),
         scan.freqs_thz.len(),
         scan.scale,
-        shaper.spec.rotating_frame_thz
+        shaper
+            .spec
+            .rotating_frame_thz
             .map_or("none (lab frame)".into(), |f| format!("{f:?} THz"))
     ));
     n.push("M(omega) = scale * sum_j a_j exp(i 2pi phi_j) exp(i (omega - omega_0) tau_j); conventions in docs/shaper-masks.md".into());
@@ -332,12 +348,16 @@ fn point_set(scan: &MaskScan, p: usize) -> MaskSet {
 /// The mask CSV (one per scan point with --scan), streamed point by point.
 fn mask_csv_files<'a>(
     job: &Job<'_>,
-    scan: (MaskScan, Option<ScanMeta>),
+    scan: Scan,
     notes: Vec<String>,
 ) -> Vec<(PathBuf, Filler<'a>)> {
     let a = job.args;
     let scan = std::rc::Rc::new(scan.0);
-    let points = if a.scan.is_empty() { 1 } else { scan.masks.len() };
+    let points = if a.scan.is_empty() {
+        1
+    } else {
+        scan.masks.len()
+    };
     (0..points)
         .map(|p| {
             let mut n = notes.clone();
@@ -410,7 +430,11 @@ fn receiver_files(job: &Job<'_>) -> anyhow::Result<Vec<(PathBuf, Vec<u8>)>> {
     let bytes = receiver_table(job.list, job.unit, job.grid, d)?;
     let mut n = job.notes.clone();
     n.push("receiver/LO phase per step and output: w_m = amplitude_m exp(-2 pi i phase_m) / N, so co-adding step m with receiver phase phase_m and gain amplitude_m gives the output (amplitude 1 for unit-modulus weights)".into());
-    let mut m = job.meta("receiver phases (plain table: step, then NAME.phase, NAME.amplitude per output)", job.unit_name(), n);
+    let mut m = job.meta(
+        "receiver phases (plain table: step, then NAME.phase, NAME.amplitude per output)",
+        job.unit_name(),
+        n,
+    );
     m.weights = exported_weights(job.list);
     Ok(vec![(r.clone(), bytes), (sidecar_path(r), m.json_bytes())])
 }

@@ -307,7 +307,10 @@ fn plain_sidecar(path: &Path, text: &str) -> Option<crate::export::meta::ExportM
         return None;
     }
     let (_, meta) = crate::export::meta::read_sidecar(path).ok().flatten()?;
-    let plain = [crate::export::plain::LAYOUT_CSV, crate::export::plain::LAYOUT_TSV];
+    let plain = [
+        crate::export::plain::LAYOUT_CSV,
+        crate::export::plain::LAYOUT_TSV,
+    ];
     plain
         .contains(&meta.layout.as_deref().unwrap_or(""))
         .then_some(meta)

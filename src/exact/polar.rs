@@ -34,12 +34,18 @@ mod tests {
     #[test]
     fn roots_of_unity_and_their_rational_multiples() {
         let z = Cyclo::root_of_unity(3, 2).unwrap();
-        assert_eq!(exact_polar(&z), Some((Q::from_integer(1.into()), Turns::new(-1, 3))));
+        assert_eq!(
+            exact_polar(&z),
+            Some((Q::from_integer(1.into()), Turns::new(-1, 3)))
+        );
         // -zeta_3 = e(1/3 + 1/2) = e(-1/6): a 6th root of unity inside Q(zeta_3).
         let z = Cyclo::root_of_unity(3, 1).unwrap().neg();
         assert_eq!(exact_polar(&z).unwrap().1, Turns::new(-1, 6));
         let z = Cyclo::from_gaussian(&Q::new(3.into(), 1.into()), &Q::zero());
-        assert_eq!(exact_polar(&z), Some((Q::from_integer(3.into()), Turns::from_integer(0))));
+        assert_eq!(
+            exact_polar(&z),
+            Some((Q::from_integer(3.into()), Turns::from_integer(0)))
+        );
         let z = Cyclo::from_gaussian(&Q::from_integer((-1).into()), &Q::zero());
         assert_eq!(exact_polar(&z).unwrap().1, Turns::new(1, 2));
         // 1 + 2i = sqrt(5) e(0.176...): no rational magnitude on a root of unity.

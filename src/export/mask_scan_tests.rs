@@ -121,7 +121,10 @@ fn aliasing_fires_exactly_past_half_a_turn_per_pixel_and_names_the_pixel() {
     assert_eq!(at(2000.001).unwrap().pixel, 0);
     // Negative delays alias the same way; an absent pulse (amplitude 0) does not.
     assert_eq!(at(-500.001).unwrap().pixel, 2);
-    assert_eq!(first_aliasing(&f, &[vec![0.0, 9000.0]], &[true, false]), None);
+    assert_eq!(
+        first_aliasing(&f, &[vec![0.0, 9000.0]], &[true, false]),
+        None
+    );
     // The scan point is named: the second point is the first past the limit.
     let d = [vec![0.0, 400.0], vec![0.0, 600.0]];
     assert_eq!(first_aliasing(&f, &d, &[true, true]).unwrap().point, 1);

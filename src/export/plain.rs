@@ -208,11 +208,18 @@ pub fn read_plain_table(text: &str, meta: &ExportMeta, path: &Path) -> Result<Cy
     } else {
         ','
     };
-    let mut lines = text.lines().enumerate().filter(|(_, l)| !l.trim().is_empty());
+    let mut lines = text
+        .lines()
+        .enumerate()
+        .filter(|(_, l)| !l.trim().is_empty());
     let Some((_, head)) = lines.next() else {
         return Err(InputError::new(path, None, None, "the table is empty"));
     };
-    let head: Vec<&str> = head.trim_start_matches('\u{feff}').split(d).map(str::trim).collect();
+    let head: Vec<&str> = head
+        .trim_start_matches('\u{feff}')
+        .split(d)
+        .map(str::trim)
+        .collect();
     let want: Vec<String> = std::iter::once("step".to_string())
         .chain(meta.fields.iter().map(|f| header_cell(f, Delimiter::Comma)))
         .collect();
@@ -244,9 +251,13 @@ pub fn read_plain_table(text: &str, meta: &ExportMeta, path: &Path) -> Result<Cy
         }
         let mut r = Vec::with_capacity(cells.len() - 1);
         for (c, h) in cells.iter().zip(&head).skip(1) {
-            let v = c.parse::<f64>().ok().filter(|v| v.is_finite()).ok_or_else(|| {
-                InputError::new(path, Some(i + 1), Some(h), format!("`{c}` is not a number"))
-            })?;
+            let v = c
+                .parse::<f64>()
+                .ok()
+                .filter(|v| v.is_finite())
+                .ok_or_else(|| {
+                    InputError::new(path, Some(i + 1), Some(h), format!("`{c}` is not a number"))
+                })?;
             r.push(v);
         }
         rows.push(r);

@@ -128,7 +128,15 @@ pub fn parse_shaper(text: &str, path: &Path) -> Result<Shaper, InputError> {
             step_nm,
         } => {
             if !(1..=super::mask::MAX_PIXELS).contains(&pixels) {
-                return Err(InputError::new(path, None, Some("calibration"), format!("calibration has {pixels} pixels; it must have 1..={}", super::mask::MAX_PIXELS)));
+                return Err(InputError::new(
+                    path,
+                    None,
+                    Some("calibration"),
+                    format!(
+                        "calibration has {pixels} pixels; it must have 1..={}",
+                        super::mask::MAX_PIXELS
+                    ),
+                ));
             }
             let nm: Vec<f64> = (0..pixels).map(|k| first_nm + k as f64 * step_nm).collect();
             Calibration::Table(thz_of_nm(&nm, path)?)

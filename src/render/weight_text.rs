@@ -123,6 +123,9 @@ mod tests {
         // 1 + i is sqrt(2) e(1/8): no rational magnitude, so the polar float form.
         let c = Cyclo::from_gaussian(&Q::one(), &Q::one());
         assert_eq!(compact_weight(&w(c, 4), 4), "~1.414e(0.125)/4");
-        assert_eq!(compact_weight(&Weight::Exact(Cyclo::zero(1).unwrap()), 4), "0");
+        assert_eq!(
+            compact_weight(&Weight::Exact(Cyclo::zero(1).unwrap()), 4),
+            "0"
+        );
     }
 }
