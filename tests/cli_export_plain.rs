@@ -318,3 +318,23 @@ fn the_design_table_fits_80_columns() {
     let (_, out, _) = run(&["design", DYE]);
     assert!(out.contains("e(") && out.contains("/27"), "{out}");
 }
+
+#[test]
+fn pathways_svg_honours_force_and_dash_writes_the_svg_to_stdout() {
+    let d = tempfile::tempdir().unwrap();
+    let svg = d.path().join("p.svg");
+    let e = "schemes/two-level-emission.toml";
+    assert_eq!(run(&["pathways", e, "--svg", s(&svg)]).0, 0);
+    let (code, _, err) = run(&["pathways", e, "--svg", s(&svg)]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--force"), "{err}");
+    assert_eq!(run(&["pathways", e, "--svg", s(&svg), "--force"]).0, 0);
+    let (code, out, _) = run(&["pathways", e, "--svg", "-"]);
+    assert_eq!(code, 0);
+    assert!(
+        out.trim_start().starts_with("<svg") || out.starts_with("<?xml"),
+        "{}",
+        &out[..80.min(out.len())]
+    );
+    assert!(!d.path().join("-").exists());
+}

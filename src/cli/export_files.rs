@@ -346,11 +346,7 @@ fn point_set(scan: &MaskScan, p: usize) -> MaskSet {
 }
 
 /// The mask CSV (one per scan point with --scan), streamed point by point.
-fn mask_csv_files<'a>(
-    job: &Job<'_>,
-    scan: Scan,
-    notes: Vec<String>,
-) -> Vec<(PathBuf, Filler<'a>)> {
+fn mask_csv_files<'a>(job: &Job<'_>, scan: Scan, notes: Vec<String>) -> Vec<(PathBuf, Filler<'a>)> {
     let a = job.args;
     let scan = std::rc::Rc::new(scan.0);
     let points = if a.scan.is_empty() {
