@@ -211,17 +211,19 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     d.iter().map(|b| format!("{b:02x}")).collect()
 }
 
-/// The sidecar path of an NPY (or NPZ) file: `x.npy` -> `x.meta.json` (any other name gets
-/// `.meta.json` appended).
+/// The sidecar path of an NPY, NPZ or plain CSV/TSV file: `x.npy` -> `x.meta.json`,
+/// `x.csv` -> `x.meta.json` (any other name gets `.meta.json` appended).
 pub fn sidecar_path(npy: &Path) -> PathBuf {
     let name = npy
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
-    let stem = [".npy", ".NPY", ".npz", ".NPZ"]
-        .iter()
-        .find_map(|e| name.strip_suffix(e))
-        .unwrap_or(&name);
+    let stem = [
+        ".npy", ".NPY", ".npz", ".NPZ", ".csv", ".CSV", ".tsv", ".TSV", ".txt", ".TXT",
+    ]
+    .iter()
+    .find_map(|e| name.strip_suffix(e))
+    .unwrap_or(&name);
     npy.with_file_name(format!("{stem}.meta.json"))
 }
 
@@ -245,6 +247,10 @@ mod tests {
             PathBuf::from("d/phases.meta.json")
         );
         assert_eq!(sidecar_path(Path::new("w")), PathBuf::from("w.meta.json"));
+        assert_eq!(
+            sidecar_path(Path::new("p.tsv")),
+            PathBuf::from("p.meta.json")
+        );
     }
 
     #[test]
