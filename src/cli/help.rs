@@ -1,15 +1,23 @@
 //! The text `--help` shows after the options of each command: an example, what `-` means and
 //! the exit codes (the table of docs/limits.md, said once here for every command).
 
-/// Exit codes of every command but `design` (docs/limits.md).
+/// Exit codes of every command but `design` (docs/limits.md): 0, optionally 1, 2, 130.
 macro_rules! exit_codes {
+    ($zero:expr) => {
+        concat!(
+            "Exit codes:\n  0    ",
+            $zero,
+            "\n  2    usage or input error, or a limit exceeded (nothing written)\n",
+            "  130  interrupted by Ctrl-C or SIGTERM (nothing written, temporaries removed)"
+        )
+    };
     ($zero:expr, $one:expr) => {
         concat!(
-            "Exit codes:\n  0  ",
+            "Exit codes:\n  0    ",
             $zero,
-            "\n  1  ",
+            "\n  1    ",
             $one,
-            "\n  2  usage or input error, or a limit exceeded (nothing written)\n",
+            "\n  2    usage or input error, or a limit exceeded (nothing written)\n",
             "  130  interrupted by Ctrl-C or SIGTERM (nothing written, temporaries removed)"
         )
     };
@@ -18,22 +26,23 @@ macro_rules! exit_codes {
 /// What `-` means for file arguments.
 macro_rules! dash {
     () => {
-        "A file argument `-` reads standard input (one input per command) or writes standard \
-output (single-file outputs only).\n"
+        "A file argument `-` reads standard input (one input per command) or writes\n\
+standard output (single-file outputs only).\n"
     };
 }
 
 /// The top-level help.
 pub const TOP: &str = concat!(
     "Example:\n  pathsieve design scheme.toml --out cycle.toml\n  pathsieve check scheme.toml cycle.toml\n\n",
-    "Phase units, wherever phases are read or written: turns, deg, rad, index (grid indices) or \
-index:M (indices on an M-step grid).\n",
+    "Phase units, wherever phases are read or written: turns, deg, rad, index (grid\n\
+indices) or index:M (indices on an M-step grid).\n",
     dash!(),
-    "\nExit codes:\n  0  success; for `check`, a clean cycle\n  1  leaks found (`check`), or no design possible (`design`)\n  \
-2  usage or input error, or a limit exceeded (nothing written)\n  \
-3  `design` interrupted: best cycle so far written, marked NOT PROVEN MINIMAL\n  \
+    "\nExit codes:\n  0    success; for `check`, a clean cycle\n  \
+1    leaks found (`check`), or no design possible (`design`)\n  \
+2    usage or input error, or a limit exceeded (nothing written)\n  \
+3    `design` interrupted: best cycle so far written, NOT PROVEN MINIMAL\n  \
 130  interrupted by Ctrl-C or SIGTERM (nothing written, temporaries removed)\n\n",
-    "Shell completions: pathsieve completions bash|zsh|fish|powershell|elvish; manual: pathsieve man"
+    "Shell completions: pathsieve completions bash|zsh|fish|powershell|elvish\nManual page: pathsieve man [COMMAND]"
 );
 
 /// `pathways`.
@@ -41,7 +50,7 @@ pub const PATHWAYS: &str = concat!(
     "Example:\n  pathsieve pathways scheme.toml --select R --diagrams\n  pathsieve pathways scheme.toml --summary --all --through 5\n\n",
     dash!(),
     "\n",
-    exit_codes!("success", "(not used)")
+    exit_codes!("success")
 );
 
 /// `agnostic`.
@@ -49,22 +58,25 @@ pub const AGNOSTIC: &str = concat!(
     "Example:\n  pathsieve agnostic scheme.toml --order 5 --json\n\n",
     dash!(),
     "\n",
-    exit_codes!("success", "(not used)")
+    exit_codes!("success")
 );
 
 /// `design`.
 pub const DESIGN: &str = concat!(
-    "Example:\n  pathsieve design scheme.toml --grid 8 --out cycle.toml\n  pathsieve design scheme.toml --out - > cycle.toml   # the cycle file on stdout, the report on stderr\n\n",
+    "Example:\n  pathsieve design scheme.toml --grid 8 --out cycle.toml\n  \
+pathsieve design scheme.toml --out - > cycle.toml  # report on stderr\n\n",
     dash!(),
-    "\nExit codes:\n  0  a design was found\n  1  no design possible (the reason is printed)\n  \
-2  usage or input error, or a limit exceeded (nothing written)\n  \
-3  interrupted (Ctrl-C, SIGTERM, --time-limit): best cycle so far written, marked NOT PROVEN MINIMAL\n  \
+    "\nExit codes:\n  0    a design was found\n  1    no design possible (the reason is printed)\n  \
+2    usage or input error, or a limit exceeded (nothing written)\n  \
+3    interrupted (Ctrl-C, SIGTERM, --time-limit): best cycle so far written,\n       \
+marked NOT PROVEN MINIMAL\n  \
 130  a second Ctrl-C (nothing written, temporaries removed)"
 );
 
 /// `check`.
 pub const CHECK: &str = concat!(
-    "Example:\n  pathsieve check scheme.toml cycle.toml --tolerance 0.5\n  pathsieve export scheme.toml cycle.toml --format csv --out - | pathsieve check scheme.toml -\n\n",
+    "Example:\n  pathsieve check scheme.toml cycle.toml --tolerance 0.5\n  \
+pathsieve export scheme.toml cycle.toml --format csv --out - |\n    pathsieve check scheme.toml -\n\n",
     dash!(),
     "\n",
     exit_codes!(
@@ -75,26 +87,30 @@ pub const CHECK: &str = concat!(
 
 /// `export`.
 pub const EXPORT: &str = concat!(
-    "Example:\n  pathsieve export scheme.toml cycle.toml --format plain-csv --unit deg --out phases.csv\n  \
-pathsieve export scheme.toml cycle.toml --format npz --out cycle.npz\n\n",
-    "plain-csv/plain-tsv: one header row, numbers only (numpy.loadtxt(f, delimiter=\",\", skiprows=1), \
-Excel, MATLAB readmatrix); metadata in NAME.meta.json.\n",
+    "Example:\n  pathsieve export scheme.toml cycle.toml --format plain-csv --unit deg \\\n      \
+--out phases.csv\n  pathsieve export scheme.toml cycle.toml --format npz --out cycle.npz\n  \
+pathsieve export scheme.toml cycle.toml --format mask-npy --shaper shaper.toml \\\n      \
+--scan pu2=0:10:2000 --out masks.npy\n\n",
+    "plain-csv/plain-tsv: one header row, numbers only, read as is by\n\
+numpy.loadtxt(f, delimiter=\",\", skiprows=1), Excel, MATLAB readmatrix;\n\
+metadata in NAME.meta.json.\n",
     dash!(),
     "\n",
-    exit_codes!("written", "(not used)")
+    exit_codes!("written")
 );
 
 /// `combine`: its own `after_help` (in combine_cmd.rs) holds the example and exit codes.
 /// `draw`.
 pub const DRAW: &str = concat!(
     "Example:\n  pathsieve draw leakage scheme.toml cycle.toml --out leakage.svg\n\n",
-    exit_codes!("written", "(not used)")
+    exit_codes!("written")
 );
 
 /// `completions`.
-pub const COMPLETIONS: &str = "Example:\n  pathsieve completions bash > ~/.local/share/bash-completion/completions/pathsieve\n  \
-pathsieve completions zsh > ~/.zfunc/_pathsieve\n\nExit codes:\n  0  written\n  2  usage error";
+pub const COMPLETIONS: &str = "Example:\n  pathsieve completions bash \\\n      \
+> ~/.local/share/bash-completion/completions/pathsieve\n  \
+pathsieve completions zsh > ~/.zfunc/_pathsieve\n\nExit codes:\n  0    written\n  2    usage error";
 
 /// `man`.
 pub const MAN: &str = "Example:\n  pathsieve man > pathsieve.1 && man ./pathsieve.1\n  \
-pathsieve man check > pathsieve-check.1\n\nExit codes:\n  0  written\n  2  usage error (no such command)";
+pathsieve man check > pathsieve-check.1\n\nExit codes:\n  0    written\n  2    usage error (no such command)";

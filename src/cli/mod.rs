@@ -20,7 +20,14 @@ use clap::{Parser, Subcommand};
 /// Pathway enumeration and exact phase-cycle design and checking for multidimensional
 /// spectroscopy.
 #[derive(Parser, Debug)]
-#[command(name = "pathsieve", version, about, long_about = None, after_help = help::TOP)]
+#[command(
+    name = "pathsieve",
+    version,
+    about,
+    long_about = None,
+    after_help = help::TOP,
+    max_term_width = 80
+)]
 pub struct Cli {
     #[command(subcommand)]
     command: Command,
