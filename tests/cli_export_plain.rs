@@ -80,7 +80,7 @@ fn plain_tables_are_numbers_only_and_check_reads_them_back_to_the_same_verdict()
         .unwrap();
         for (fmt, ext) in [("plain-csv", "csv"), ("plain-tsv", "tsv")] {
             for unit in ["turns", "deg", "rad", "index"] {
-                let p = d.path().join(format!("{k}-{unit}.{ext}"));
+                let p = d.path().join(format!("{k}-{unit}-{fmt}.{ext}"));
                 let (code, _, err) = run(&[
                     "export",
                     exp,

@@ -22,9 +22,9 @@ use std::path::{Path, PathBuf};
 pub enum Format {
     /// Phase list as CSV (one row per step) with `# key: value` metadata lines.
     Csv,
-    /// Phase list as a plain CSV: one header row, numbers only; metadata in NAME.meta.json.
+    /// Phase list as a plain CSV: one header row, numbers only; metadata in NAME.csv.meta.json.
     PlainCsv,
-    /// Phase list as a plain tab-separated table; metadata in NAME.meta.json.
+    /// Phase list as a plain tab-separated table; metadata in NAME.tsv.meta.json.
     PlainTsv,
     /// Phases and weights as one JSON document.
     Json,

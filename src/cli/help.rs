@@ -93,7 +93,7 @@ pathsieve export scheme.toml cycle.toml --format mask-npy --shaper shaper.toml \
 --scan pu2=0:10:2000 --out masks.npy\n\n",
     "plain-csv/plain-tsv: one header row, numbers only, read as is by\n\
 numpy.loadtxt(f, delimiter=\",\", skiprows=1), Excel, MATLAB readmatrix;\n\
-metadata in NAME.meta.json.\n",
+metadata in NAME.csv.meta.json.\n",
     dash!(),
     "\n",
     exit_codes!("written")

@@ -211,19 +211,18 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     d.iter().map(|b| format!("{b:02x}")).collect()
 }
 
-/// The sidecar path of an NPY, NPZ or plain CSV/TSV file: `x.npy` -> `x.meta.json`,
-/// `x.csv` -> `x.meta.json` (any other name gets `.meta.json` appended).
+/// The sidecar path of an NPY or NPZ file: `x.npy` -> `x.meta.json`; any other name gets
+/// `.meta.json` appended (`x.csv` -> `x.csv.meta.json`, so a plain table and an NPY export of
+/// the same name never share, or overwrite, one sidecar).
 pub fn sidecar_path(npy: &Path) -> PathBuf {
     let name = npy
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
-    let stem = [
-        ".npy", ".NPY", ".npz", ".NPZ", ".csv", ".CSV", ".tsv", ".TSV", ".txt", ".TXT",
-    ]
-    .iter()
-    .find_map(|e| name.strip_suffix(e))
-    .unwrap_or(&name);
+    let stem = [".npy", ".NPY", ".npz", ".NPZ"]
+        .iter()
+        .find_map(|e| name.strip_suffix(e))
+        .unwrap_or(&name);
     npy.with_file_name(format!("{stem}.meta.json"))
 }
 
@@ -249,7 +248,7 @@ mod tests {
         assert_eq!(sidecar_path(Path::new("w")), PathBuf::from("w.meta.json"));
         assert_eq!(
             sidecar_path(Path::new("p.tsv")),
-            PathBuf::from("p.meta.json")
+            PathBuf::from("p.tsv.meta.json")
         );
     }
 

@@ -2,7 +2,7 @@
 //! Excel, LabVIEW's spreadsheet reader, MATLAB readmatrix): one header row of column names,
 //! then one row of numbers per step, comma- or tab-separated, no comment lines, no quoted
 //! text cells. The metadata (unit, grid, exact weights, provenance) goes into the sidecar
-//! `NAME.meta.json` ([`super::meta`]), whose `layout` key names the table's form so that
+//! `NAME.csv.meta.json` ([`super::meta`]), whose `layout` key names the table's form so that
 //! `check` reads the pair back exactly ([`read_plain_table`]). Forms: the phase table
 //! (`step` then one column per field), one single-column file per field, the weights
 //! (`NAME.re`, `NAME.im` per output) and the receiver/LO phase table (`NAME.phase`,

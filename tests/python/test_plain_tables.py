@@ -63,7 +63,7 @@ def test_numpy_and_the_csv_module_read_the_plain_table_as_is(tmp_path, reference
     assert np.allclose(np.array(rows[1:], dtype=float), a, atol=0)
     b = np.loadtxt(w, delimiter=delim, skiprows=1)
     assert np.allclose(b[:, 1::2] + 1j * b[:, 2::2], reference.weights, atol=1e-15)
-    meta = json.loads(out.with_suffix(".meta.json").read_text(encoding="ascii"))  # phases.meta.json
+    meta = json.loads(Path(f"{out}.meta.json").read_text(encoding="ascii"))
     assert meta["unit"] == "degrees" and meta["layout"] == fmt and meta["steps"] == 27
     assert meta["source_steps"] == reference.source_steps.tolist()
 
