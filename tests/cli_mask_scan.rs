@@ -136,3 +136,28 @@ fn aliasing_is_refused_exactly_past_half_a_turn_per_pixel() {
     assert_eq!(code, 0, "{err}");
     assert!(err.contains("warning") && err.contains("aliasing"), "{err}");
 }
+
+#[test]
+fn a_scan_above_the_size_limit_is_refused_before_any_work() {
+    let d = tempfile::tempdir().unwrap();
+    let out = d.path().join("m.csv");
+    // 5001 x 5001 delay points: above the 2^24 mask values before a single mask is made.
+    let (code, _, err) = common::run_cli(&[
+        "export",
+        EXP,
+        CYC,
+        "--format",
+        "mask-csv",
+        "--shaper",
+        SHAPER,
+        "--scan",
+        "pu1=0:1:5000",
+        "--scan",
+        "pu2=0:1:5000",
+        "--out",
+        s(&out),
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("exceed the limit"), "{err}");
+    assert_eq!(std::fs::read_dir(d.path()).unwrap().count(), 0);
+}

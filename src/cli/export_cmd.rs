@@ -114,18 +114,18 @@ pub fn parse_scan(text: &str) -> anyhow::Result<(String, Vec<f64>)> {
 }
 
 impl ExportArgs {
-    /// The number of scan points (1 without --scan).
+    /// The number of scan points (1 without --scan; saturating, refused above the limit).
     pub fn scan_points(&self) -> usize {
         self.scan
             .iter()
             .filter_map(|t| parse_scan(t).ok())
             .map(|(_, d)| d.len())
-            .product()
+            .fold(1usize, usize::saturating_mul)
     }
 
-    /// The mask CSV of scan point `p` (`OUT.delayK.csv`, K zero-padded).
-    pub fn delay_path(&self, p: usize) -> PathBuf {
-        let width = (self.scan_points().max(1) - 1).to_string().len();
+    /// The mask CSV of scan point `p` of `points` (`OUT.delayK.csv`, K zero-padded).
+    pub fn delay_path(&self, p: usize, points: usize) -> PathBuf {
+        let width = (points.max(1) - 1).to_string().len();
         let stem = self
             .out
             .file_stem()
@@ -176,7 +176,8 @@ fn planned_outputs(a: &ExportArgs, fields: &[String]) -> Vec<PathBuf> {
         v.extend(fields.iter().map(|f| a.field_path(f)));
         v.push(sidecar_path(&a.out));
     } else if a.format == Format::MaskCsv && !a.scan.is_empty() {
-        v.extend((0..a.scan_points()).map(|p| a.delay_path(p)));
+        let points = a.scan_points();
+        v.extend((0..points).map(|p| a.delay_path(p, points)));
     } else {
         v.push(a.out.clone());
         if matches!(a.format, Format::Npy | Format::MaskNpy) || a.is_plain() {
@@ -219,6 +220,14 @@ fn validate(a: &ExportArgs) -> anyhow::Result<()> {
     }
     for t in &a.scan {
         parse_scan(t)?;
+    }
+    // Before any path is planned: every point needs at least one mask of one pixel.
+    let limit = pathsieve::export::mask::MAX_MASK_VALUES;
+    if a.scan_points() > limit {
+        bail!(
+            "--scan: {} delay points exceed the limit of {limit} mask values; scan fewer delays",
+            a.scan_points()
+        );
     }
     check_one_stdin(&[Some(&a.experiment), Some(&a.cycle), a.shaper.as_deref()])
 }

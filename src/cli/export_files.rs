@@ -364,7 +364,7 @@ fn mask_csv_files<'a>(job: &Job<'_>, scan: Scan, notes: Vec<String>) -> Vec<(Pat
                     "scan point {p} of {points}: sub-pulse delays from time zero {:?} fs",
                     scan.subpulse_delays_fs[p]
                 ));
-                a.delay_path(p)
+                a.delay_path(p, points)
             };
             let comments = job.meta("shaper masks", "turns".into(), n).csv_comments();
             let s = std::rc::Rc::clone(&scan);
