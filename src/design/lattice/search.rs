@@ -21,7 +21,7 @@ use rayon::prelude::*;
 use super::engine::{order_key, Engine, Sink};
 use super::hnf::Lattice;
 use super::problem::{normalise, LatticeProblem, Reduced};
-use super::seed::{korobov_seed, nested_seed};
+use super::seed::{korobov_seed, nested_seed, random_cogwheel_seed};
 use super::DesignError;
 
 /// Progress report: the index being scanned and candidate rows tested so far.
@@ -171,6 +171,13 @@ fn run(
     let nested_bound = nested.as_ref().map(Lattice::index);
     let mut best = nested.clone();
     if let Some(c) = korobov_seed(
+        &engine,
+        best.as_ref().map_or(problem.max_steps, |l| l.index() - 1),
+        ctl.cancel,
+    ) {
+        best = Some(c);
+    }
+    if let Some(c) = random_cogwheel_seed(
         &engine,
         best.as_ref().map_or(problem.max_steps, |l| l.index() - 1),
         ctl.cancel,

@@ -11,7 +11,7 @@ use super::hnf::Lattice;
 const NESTED_BUDGET: u64 = 20_000_000;
 /// Forbidden-difference tests the exact nested search may make (about a second): the seed
 /// must come fast, whatever the size of the rejection set.
-const NESTED_WORK_BUDGET: u64 = 200_000_000;
+const NESTED_WORK_BUDGET: u64 = 40_000_000;
 const KOROBOV_BUDGET: u64 = 3_000_000;
 
 /// Smallest nested cycle with at most `max_steps` steps, as `(lattice, exact)`;
@@ -79,33 +79,44 @@ impl Nested<'_> {
         self.e.cap.is_none_or(|cap| c <= cap as u64)
     }
 
-    /// True if no forbidden difference decided at level k lies in the prefix.
-    fn clean(&mut self, k: usize, c: &[u64]) -> bool {
+    /// The distinct `|d_k|` of the forbidden differences decided at level k whose earlier
+    /// entries lie in the prefix `c[..k]`: `c_k = v` is clean iff `v` divides none of them.
+    fn bad_entries(&mut self, k: usize, c: &[u64]) -> Vec<i64> {
         self.work += self.e.forb[k].len() as u64;
-        !self.e.forb[k]
+        let mut bad: Vec<i64> = self.e.forb[k]
             .iter()
-            .any(|d| d[..=k].iter().zip(c).all(|(&x, &ci)| x % ci as i64 == 0))
+            .filter(|d| d[..k].iter().zip(c).all(|(&x, &ci)| x % ci as i64 == 0))
+            .map(|d| d[k].abs())
+            .collect();
+        bad.sort_unstable();
+        bad.dedup();
+        bad
+    }
+
+    fn clean_with(bad: &[i64], v: u64) -> bool {
+        bad.iter().all(|&b| b % v as i64 != 0)
     }
 
     fn greedy(&mut self) {
         let mut c: Vec<u64> = Vec::new();
         let mut p = 1u64;
+        // Cheap (one pass over each level's differences), so it runs even when the search is
+        // already cancelled: an interrupted design always has this valid fallback.
         for k in 0..self.e.n {
+            let bad = self.bad_entries(k, &c);
             let lim = self.best.saturating_sub(1) / p;
-            let mut ok = None;
-            for v in 1..=lim.min(1_000_000) {
-                if !self.allowed(k, v) {
-                    continue;
-                }
-                c.push(v);
-                if self.clean(k, &c) {
-                    ok = Some(v);
-                    break;
-                }
-                c.pop();
-            }
+            // Every v above max(bad) is clean, and an allowed v divides the required gcd
+            // when there is one: the walk stops at whichever comes first.
+            let top = match self.rj[k] {
+                0 => bad.last().map_or(1, |&b| b as u64 + 1),
+                r => r.unsigned_abs(),
+            };
+            let ok = (1..=lim.min(top)).find(|&v| self.allowed(k, v) && Self::clean_with(&bad, v));
             match ok {
-                Some(v) => p *= v,
+                Some(v) => {
+                    c.push(v);
+                    p *= v;
+                }
                 None => return,
             }
         }
@@ -124,26 +135,26 @@ impl Nested<'_> {
             }
             return;
         }
+        if self.work > NESTED_WORK_BUDGET || self.cancel.load(Ordering::Relaxed) {
+            self.stopped = true;
+            return;
+        }
+        let bad = self.bad_entries(k, c);
         let lim = (self.best - 1) / p;
         for v in 1..=lim {
             self.nodes += 1;
-            if self.nodes > NESTED_BUDGET
-                || self.work > NESTED_WORK_BUDGET
-                || (self.nodes % 1024 == 0 && self.cancel.load(Ordering::Relaxed))
-            {
+            if self.nodes > NESTED_BUDGET || self.stopped {
                 self.stopped = true;
                 return;
             }
             if p * v >= self.best {
                 return;
             }
-            if !self.allowed(k, v) {
+            if !self.allowed(k, v) || !Self::clean_with(&bad, v) {
                 continue;
             }
             c.push(v);
-            if self.clean(k, c) {
-                self.dfs(c, p * v);
-            }
+            self.dfs(c, p * v);
             c.pop();
         }
     }
@@ -202,4 +213,86 @@ pub(crate) fn korobov_seed(e: &Engine, bound: u64, cancel: &AtomicBool) -> Optio
         }
     }
     None
+}
+
+/// Dot products the random cogwheel seed may spend (about a tenth of a second in a release
+/// build).
+const RANDOM_COGWHEEL_WORK: u64 = 30_000_000;
+/// Random winding vectors tried at one step count before the seed gives up on it.
+const RANDOM_COGWHEEL_TRIALS: u32 = 4_000;
+
+/// A cogwheel below `bound` steps from random winding numbers (a fixed-seed generator, so the
+/// result is the same on every run): for a rejection set of size R a random cogwheel of N steps
+/// is valid with probability about exp(-R/N), so large problems whose nested and Korobov seeds
+/// are poor or slow get a valid design at once. Step counts descend by about 8 % after each
+/// success and the scan stops at the first count where every trial fails or the work runs out.
+/// Problems with required differences (several kept signatures in one output) are left to the
+/// other seeds.
+pub(crate) fn random_cogwheel_seed(e: &Engine, bound: u64, cancel: &AtomicBool) -> Option<Lattice> {
+    if e.req.iter().any(|r| !r.is_empty()) || bound < 2 {
+        return None;
+    }
+    let forb: Vec<&Vec<i64>> = e.forb.iter().flatten().collect();
+    let mut rng = crate::simulate::rng::SplitMix::new(0x5eed_c0c0_u64);
+    let mut work = 0u64;
+    let mut best: Option<Lattice> = None;
+    let mut n = bound.min(1 << 30);
+    while n >= 2 && work < RANDOM_COGWHEEL_WORK {
+        let found = (0..RANDOM_COGWHEEL_TRIALS).find_map(|_| {
+            if work >= RANDOM_COGWHEEL_WORK || cancel.load(Ordering::Relaxed) {
+                return None;
+            }
+            let nu = random_winding(e, n, &mut rng)?;
+            // Entries of d are at most 2e6 and nu_j below 2^30: each product and the sum of
+            // at most 8 of them stays far inside i64.
+            let m = n as i64;
+            let hit = forb
+                .iter()
+                .position(|d| d.iter().zip(&nu).map(|(&x, &v)| x * v).sum::<i64>() % m == 0);
+            work += hit.map_or(forb.len(), |h| h + 1) as u64;
+            hit.is_none().then_some(nu)
+        });
+        let Some(nu) = found else { break };
+        match Lattice::from_cogwheel(n, &nu) {
+            Ok(l) if l.index() < best.as_ref().map_or(u64::MAX, Lattice::index) => {
+                n = l.index();
+                best = Some(l);
+            }
+            _ => {}
+        }
+        n = (n * 12 / 13).min(n - 1);
+    }
+    best
+}
+
+/// Winding numbers `nu` for an N-step cogwheel drawn at random among those the grid and the
+/// phase cap allow (`M_j nu_j = 0 mod N`, the order of `nu_j` at most the cap); `None` when
+/// the draw gives a zero vector.
+fn random_winding(
+    e: &Engine,
+    n: u64,
+    rng: &mut crate::simulate::rng::SplitMix,
+) -> Option<Vec<i64>> {
+    let nu: Vec<i64> = e
+        .grid
+        .iter()
+        .map(|&m| {
+            // nu_j runs over the multiples of N / g, g = gcd(N, M_j) (g = N off the grid).
+            let g = if m == 0 {
+                n
+            } else {
+                gcd(n as i64, m as i64) as u64
+            };
+            let step = n / g;
+            let mut v = (rng.next_u64() % g) * step;
+            if let Some(cap) = e.cap {
+                // Order of v in Z_N is N / gcd(v, N); redraw a divisor-friendly value if too big.
+                if n / gcd(v as i64, n as i64) as u64 > cap as u64 {
+                    v = 0;
+                }
+            }
+            v as i64
+        })
+        .collect();
+    nu.iter().any(|&v| v != 0).then_some(nu)
 }
