@@ -353,3 +353,110 @@ fn the_absorptive_pump_probe_spectrum_is_the_sum_of_rephasing_and_non_rephasing(
         "pump-probe - (R + NR): {worst} of {top}"
     );
 }
+
+#[test]
+fn draw_spectrum_reads_a_run_back_and_refuses_what_it_cannot_draw() {
+    let dir = tempfile::tempdir().unwrap();
+    let run = dir.path().join("run.npz");
+    let (code, _, err) = run_cli(&[
+        "simulate",
+        &s(&scheme("carbonyl-pump-probe.toml")),
+        &s(&scheme("carbonyl-2x2.cycle.toml")),
+        "--delay",
+        "t1=0:4:800",
+        "--delay",
+        "t3=0:4:800",
+        "--background",
+        "scatter=30",
+        "--phase-rms",
+        "2",
+        "--out",
+        &s(&run),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let svg = dir.path().join("map.svg");
+    let (code, _, err) = run_cli(&["draw", "spectrum", &s(&run), "--out", &s(&svg), "--png"]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&svg).unwrap();
+    // Three panels on one scale, both axes named with their unit, signed colours.
+    for want in [
+        "ideal",
+        "as measured",
+        "leak = measured − ideal",
+        "excitation ω1 (cm-1)",
+        "detection ω3 (cm-1)",
+        "real part / scale",
+        "stroke-dasharray",
+    ] {
+        assert!(text.contains(want), "{want}");
+    }
+    let png = std::fs::read(dir.path().join("map.png")).unwrap();
+    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+    if let Ok(d) = std::env::var("PATHSIEVE_PICTURES") {
+        std::fs::write(format!("{d}/carbonyl-run.png"), &png).unwrap();
+    }
+    // No overwrite without --force; an unknown output is named with the choices.
+    let (code, _, err) = run_cli(&["draw", "spectrum", &s(&run), "--out", &s(&svg)]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--force"), "{err}");
+    let (code, _, err) = run_cli(&[
+        "draw",
+        "spectrum",
+        &s(&run),
+        "--output",
+        "R",
+        "--out",
+        &s(&dir.path().join("r.svg")),
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("absorptive"), "{err}");
+}
+
+#[test]
+fn simulate_refuses_bad_requests_before_writing_anything() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("x.npz");
+    let exp = s(&scheme("two-level-emission.toml"));
+    let cases: [(&[&str], &str); 4] = [
+        (&["--delay", "t1=0:4:100"], "give the delay t3"),
+        (
+            &["--delay", "t1=0:20:100", "--delay", "t3=0:20:100"],
+            "aliases",
+        ),
+        (
+            &[
+                "--delay",
+                "t1=0:4:100",
+                "--delay",
+                "t3=0:4:100",
+                "--noise",
+                "0.1",
+            ],
+            "give a CYCLE",
+        ),
+        (
+            &["--delay", "t1=100:4:0", "--delay", "t3=0:4:100"],
+            "STOP >= START",
+        ),
+    ];
+    for (args, want) in cases {
+        let mut all = vec!["simulate", exp.as_str(), "--out", out.to_str().unwrap()];
+        all.extend_from_slice(args);
+        let (code, _, err) = run_cli(&all);
+        assert_eq!(code, 2, "{args:?}");
+        assert!(err.contains(want), "{args:?}: {err}");
+        assert!(std::fs::read_dir(dir.path()).unwrap().next().is_none());
+    }
+    let (code, _, err) = run_cli(&[
+        "simulate",
+        &s(&scheme("ladder-heterodyne.toml")),
+        "--delay",
+        "t1=0:4:100",
+        "--delay",
+        "t3=0:4:100",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("no [dynamics] table"), "{err}");
+}

@@ -6,6 +6,7 @@ mod combine_cmd;
 mod design_cmd;
 mod design_progress;
 mod draw_cmd;
+mod draw_spectrum_cmd;
 mod export_cmd;
 mod output;
 mod pathways_cmd;

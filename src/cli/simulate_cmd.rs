@@ -506,6 +506,10 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
             outputs
         }
     };
+    let paired = |o: &OutputData| o.kept.iter().any(|t| o.kept.contains(&t.conjugate()));
+    if a.frame != 0.0 && outputs.iter().any(paired) {
+        summary.notes.push("an output keeps both t and -t (real signal) in a rotating frame: the conjugate half lies mirrored about the frame, at 2 x frame - w; keep the frame below the band by more than its width, or use --frame 0 (docs/simulate.md)".into());
+    }
     bar.set_message("computing the spectra");
     let setup =
         spectrum_parts
@@ -521,8 +525,8 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
                 at_label: at_label.clone(),
                 png_scale: a.png.then_some(a.png_scale),
             });
-    if let Some((fixed, _, _)) = &spectrum_parts {
-        summary.set_spectrum_at(&grid, fixed);
+    if let Some((fixed, _, window)) = &spectrum_parts {
+        summary.set_spectrum_at(&grid, fixed, *window);
     } else {
         summary.notes.push("no spectra: they need three delays or more, the first and the last evenly spaced with two points or more".into());
     }

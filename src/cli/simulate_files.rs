@@ -42,7 +42,7 @@ impl Layout {
         }
     }
 
-    fn stem(&self) -> String {
+    pub fn stem(&self) -> String {
         let file = self
             .out
             .file_name()
@@ -56,7 +56,7 @@ impl Layout {
     }
 
     /// A sibling file `STEM.SUFFIX`.
-    fn sibling(&self, suffix: &str) -> PathBuf {
+    pub fn sibling(&self, suffix: &str) -> PathBuf {
         self.out.with_file_name(format!("{}.{suffix}", self.stem()))
     }
 
@@ -76,7 +76,7 @@ impl Layout {
     }
 
     /// The file of array `member` (the archive itself for NPZ).
-    fn array(&self, member: &str) -> PathBuf {
+    pub fn array(&self, member: &str) -> PathBuf {
         if self.npz {
             self.out.clone()
         } else {
@@ -219,6 +219,8 @@ pub struct Summary {
     undersample: bool,
     grid: Vec<AxisSummary>,
     spectrum_at_fs: Vec<(String, f64)>,
+    /// The frequency window of the pictures, in the axis unit.
+    window: Option<[f64; 2]>,
     seed: u64,
     noise: f64,
     phase_errors_turns: PhaseErrors,
@@ -265,7 +267,7 @@ impl Summary {
     pub fn new(s: &Setup) -> anyhow::Result<Summary> {
         let bytes = pathsieve::input_text::read_bytes(s.experiment)?;
         let classes = |c: &[PathwayClass]| c.iter().map(|x| x.short()).collect::<Vec<_>>();
-        let mut notes = vec![format!(
+        let notes = vec![format!(
             "delays in fs; frame {} {} per quantum ({}); the spectrum axes are in {}",
             s.frame,
             s.dyn_.energy_unit.label(),
@@ -276,9 +278,6 @@ impl Summary {
             },
             s.unit.label()
         )];
-        if s.frame != 0.0 && s.exp.detection.is_real() {
-            notes.push("real detection in a rotating frame: the conjugate half of the signal lies mirrored about the frame (at 2 x frame - w); keep the frame away from the band or use --frame 0".into());
-        }
         Ok(Summary {
             schema_version: SCHEMA_VERSION,
             tool: "pathsieve",
@@ -308,6 +307,7 @@ impl Summary {
                 })
                 .collect(),
             spectrum_at_fs: Vec::new(),
+            window: None,
             seed: s.seed,
             noise: s.noise,
             phase_errors_turns: s.errors.clone(),
@@ -343,7 +343,8 @@ impl Summary {
     }
 
     /// Record the middle delays of the spectra.
-    pub fn set_spectrum_at(&mut self, grid: &DelayGrid, fixed: &[usize]) {
+    pub fn set_spectrum_at(&mut self, grid: &DelayGrid, fixed: &[usize], window: [f64; 2]) {
+        self.window = Some(window);
         let n = grid.axes.len();
         self.spectrum_at_fs = (1..n - 1)
             .map(|k| {
@@ -373,6 +374,17 @@ fn window_peak(s: &Spectrum2D, w: [f64; 2]) -> f64 {
         }
     }
     m
+}
+
+/// A ratio as a percentage with three significant digits (`0.0123 %`, `6070 %`).
+fn percent(r: f64) -> String {
+    let pct = 100.0 * r;
+    let digits = if pct >= 100.0 {
+        0
+    } else {
+        (2.0 - pct.abs().max(1e-12).log10().floor()).clamp(0.0, 12.0) as usize
+    };
+    format!("{pct:.digits$} %")
 }
 
 fn peak(v: &[Complex64]) -> f64 {
@@ -507,10 +519,11 @@ pub fn build(
                 sum.spectrum_leak_peak = Some(lp);
                 sum.spectrum_leak_relative = Some(lp / ideal_window_peak.max(f64::MIN_POSITIVE));
                 panels_data.push(("as measured".into(), meas));
+                let rel = lp / ideal_window_peak.max(f64::MIN_POSITIVE);
                 panels_data.push((
                     format!(
-                        "leak = measured − ideal ({:.2} % of peak)",
-                        100.0 * lp / ideal_window_peak.max(f64::MIN_POSITIVE)
+                        "leak = measured − ideal, peak {} of the ideal's",
+                        percent(rel)
                     ),
                     diff,
                 ));
@@ -588,11 +601,11 @@ fn finish(
 }
 
 #[cfg(feature = "png")]
-fn png_bytes(svg: &str, scale: f32) -> anyhow::Result<Vec<u8>> {
+pub fn png_bytes(svg: &str, scale: f32) -> anyhow::Result<Vec<u8>> {
     Ok(pathsieve::render::png::svg_to_png(svg, scale)?)
 }
 
 #[cfg(not(feature = "png"))]
-fn png_bytes(_svg: &str, _scale: f32) -> anyhow::Result<Vec<u8>> {
+pub fn png_bytes(_svg: &str, _scale: f32) -> anyhow::Result<Vec<u8>> {
     bail!("this build has no PNG output (the `png` feature); drop --png or rebuild with it")
 }
