@@ -139,39 +139,18 @@ fn parse_window(w: &str, unit: &str) -> anyhow::Result<[f64; 2]> {
     }
 }
 
-/// Run the subcommand.
-pub fn run(a: SpectrumArgs) -> anyhow::Result<u8> {
-    if !(a.png_scale.is_finite() && a.png_scale > 0.0 && a.png_scale <= 16.0) {
-        bail!("--png-scale {}: use a number in (0, 16]", a.png_scale);
-    }
-    let layout =
-        Layout::from_out(&a.run).map_err(|e| anyhow::anyhow!("{}: {e}", a.run.display()))?;
-    let npz = a
-        .run
-        .extension()
-        .is_some_and(|e| e.eq_ignore_ascii_case("npz"));
-    let meta_path = layout.meta();
-    let png_path = a.out.with_extension("png");
-    let mut targets = vec![a.out.as_path()];
-    if a.png {
-        targets.push(png_path.as_path());
-    }
-    if a.out
-        .extension()
-        .is_none_or(|e| !e.eq_ignore_ascii_case("svg"))
-    {
-        bail!("--out {}: end the picture's path in .svg", a.out.display());
-    }
-    check_targets(&targets, &[a.run.as_path(), meta_path.as_path()], a.force)?;
-    let meta: serde_json::Value = serde_json::from_str(&pathsieve::input_text::read_text(
-        &meta_path,
-    )?)
-    .with_context(|| {
-        format!(
-            "{}: not the metadata of a `pathsieve simulate` run",
-            meta_path.display()
-        )
-    })?;
+/// The run's metadata and the chosen output's name and entry.
+fn choose(
+    a: &SpectrumArgs,
+    meta_path: &Path,
+) -> anyhow::Result<(serde_json::Value, String, serde_json::Value)> {
+    let meta: serde_json::Value =
+        serde_json::from_str(&pathsieve::input_text::read_text(meta_path)?).with_context(|| {
+            format!(
+                "{}: not the metadata of a `pathsieve simulate` run",
+                meta_path.display()
+            )
+        })?;
     let outputs = meta["outputs"].as_array().cloned().unwrap_or_default();
     let names: Vec<String> = outputs
         .iter()
@@ -194,27 +173,29 @@ pub fn run(a: SpectrumArgs) -> anyhow::Result<u8> {
         .find(|o| o["name"] == name.as_str())
         .cloned()
         .unwrap_or_default();
-    let unit_label = meta["axis_unit"].as_str().unwrap_or("");
-    let unit = EnergyUnit::parse(unit_label).ok_or_else(|| {
-        anyhow::anyhow!(
-            "{}: axis_unit `{unit_label}` is not cm-1, eV or THz",
-            meta_path.display()
-        )
-    })?;
-    let mode = match o["excitation_axis"].as_str() {
-        Some("flipped") => ExcitationAxis::Flipped,
-        Some("folded") => ExcitationAxis::Folded,
-        _ => ExcitationAxis::Direct,
-    };
-    let safe = pathsieve::combine::data_file::safe_name(&name);
-    let members: Vec<String> = [
+    Ok((meta, name, o))
+}
+
+/// The ideal and (unless `--ideal-only`) as-measured spectra of output `name`.
+fn load(
+    a: &SpectrumArgs,
+    layout: &Layout,
+    name: &str,
+    mode: ExcitationAxis,
+    unit: EnergyUnit,
+) -> anyhow::Result<(Spectrum2D, Option<Spectrum2D>)> {
+    let npz = a
+        .run
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("npz"));
+    let safe = pathsieve::combine::data_file::safe_name(name);
+    let members = vec![
         "excitation".to_string(),
         "detection".to_string(),
         format!("{safe}.ideal_spectrum"),
         format!("{safe}.spectrum"),
-    ]
-    .to_vec();
-    let arrays = read_arrays(&layout, &a.run, npz, &members)?;
+    ];
+    let arrays = read_arrays(layout, &a.run, npz, &members)?;
     let axis = |m: &str| arrays.iter().find(|x| x.0 == m).map(|x| floats(&x.1));
     let (Some(exc), Some(det)) = (axis("excitation"), axis("detection")) else {
         bail!("{}: no spectrum axes (excitation, detection): the run had no spectra (it needs t1 and the last delay as ranges)", a.run.display());
@@ -227,19 +208,19 @@ pub fn run(a: SpectrumArgs) -> anyhow::Result<u8> {
     } else {
         spectrum_of(&arrays, &members[3], &exc, &det, mode, unit)?
     };
-    let leak = measured.as_ref().map(|m| {
-        let mut d = m.clone();
-        for (x, y) in d.values.iter_mut().zip(&ideal.values) {
-            *x -= y;
-        }
-        d
-    });
-    let component = match a.component {
-        Shown::Real => Component::Real,
-        Shown::Magnitude => Component::Magnitude,
-        Shown::Auto if mode == ExcitationAxis::Folded => Component::Real,
-        Shown::Auto => Component::Magnitude,
-    };
+    Ok((ideal, measured))
+}
+
+/// The picture's title and window.
+fn title_and_window(
+    a: &SpectrumArgs,
+    meta: &serde_json::Value,
+    name: &str,
+    component: Component,
+    ideal: &Spectrum2D,
+    unit_label: &str,
+) -> anyhow::Result<(String, [f64; 2])> {
+    let (exc, det) = (&ideal.excitation, &ideal.detection);
     let window = match &a.window {
         Some(w) => parse_window(w, unit_label)?,
         None => match meta["window"].as_array() {
@@ -258,20 +239,66 @@ pub fn run(a: SpectrumArgs) -> anyhow::Result<u8> {
         .collect();
     let title = a.title.clone().unwrap_or_else(|| {
         format!(
-            "{} — output {}{}; {}; excitation ω1 vertical, detection ω3 horizontal ({unit_label})",
+            "{} — output {name}{}; {}; excitation ω1 vertical, detection ω3 horizontal ({unit_label})",
             meta["experiment"].as_str().unwrap_or(""),
-            name,
-            if at.is_empty() {
-                String::new()
-            } else {
-                format!(", {}", at.join(", "))
-            },
+            if at.is_empty() { String::new() } else { format!(", {}", at.join(", ")) },
             match component {
                 Component::Real => "real part (absorptive, signed)",
                 Component::Magnitude => "magnitude",
             }
         )
     });
+    Ok((title, window))
+}
+
+/// Run the subcommand.
+pub fn run(a: SpectrumArgs) -> anyhow::Result<u8> {
+    if !(a.png_scale.is_finite() && a.png_scale > 0.0 && a.png_scale <= 16.0) {
+        bail!("--png-scale {}: use a number in (0, 16]", a.png_scale);
+    }
+    if a.out
+        .extension()
+        .is_none_or(|e| !e.eq_ignore_ascii_case("svg"))
+    {
+        bail!("--out {}: end the picture's path in .svg", a.out.display());
+    }
+    let layout =
+        Layout::from_out(&a.run).map_err(|e| anyhow::anyhow!("{}: {e}", a.run.display()))?;
+    let meta_path = layout.meta();
+    let png_path = a.out.with_extension("png");
+    let mut targets = vec![a.out.as_path()];
+    if a.png {
+        targets.push(png_path.as_path());
+    }
+    check_targets(&targets, &[a.run.as_path(), meta_path.as_path()], a.force)?;
+    let (meta, name, o) = choose(&a, &meta_path)?;
+    let unit_label = meta["axis_unit"].as_str().unwrap_or("");
+    let unit = EnergyUnit::parse(unit_label).ok_or_else(|| {
+        anyhow::anyhow!(
+            "{}: axis_unit `{unit_label}` is not cm-1, eV or THz",
+            meta_path.display()
+        )
+    })?;
+    let mode = match o["excitation_axis"].as_str() {
+        Some("flipped") => ExcitationAxis::Flipped,
+        Some("folded") => ExcitationAxis::Folded,
+        _ => ExcitationAxis::Direct,
+    };
+    let (ideal, measured) = load(&a, &layout, &name, mode, unit)?;
+    let leak = measured.as_ref().map(|m| {
+        let mut d = m.clone();
+        for (x, y) in d.values.iter_mut().zip(&ideal.values) {
+            *x -= y;
+        }
+        d
+    });
+    let component = match a.component {
+        Shown::Real => Component::Real,
+        Shown::Magnitude => Component::Magnitude,
+        Shown::Auto if mode == ExcitationAxis::Folded => Component::Real,
+        Shown::Auto => Component::Magnitude,
+    };
+    let (title, window) = title_and_window(&a, &meta, &name, component, &ideal, unit_label)?;
     let mut panels = vec![Panel {
         caption: "ideal".into(),
         spectrum: &ideal,

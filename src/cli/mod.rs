@@ -13,6 +13,7 @@ mod pathways_cmd;
 pub mod signals;
 mod simulate_cmd;
 mod simulate_files;
+mod simulate_summary;
 
 use clap::{Parser, Subcommand};
 

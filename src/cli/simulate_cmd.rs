@@ -7,6 +7,7 @@
 
 use super::check_cmd::background_args;
 use super::simulate_files::{self, Layout, OutputData};
+use super::simulate_summary;
 use anyhow::{bail, Context};
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
@@ -14,11 +15,9 @@ use pathsieve::cycle::read_cycle;
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::model::{Backgrounds, Experiment};
 use pathsieve::selection::{Selection, SelectionRequest};
-use pathsieve::simulate::run::CycleRun;
-use pathsieve::simulate::run::{excitation_axis, kept_classes};
 use pathsieve::simulate::{
-    delay_names, ideal_outputs, parse_delays, parse_dynamics, simulate_cycle, simulate_response,
-    DelayAxis, DelayGrid, Dynamics, EnergyUnit, PhaseErrors, Response, RunRequest,
+    delay_names, parse_delays, parse_dynamics, simulate_cycle, simulate_response, DelayAxis,
+    DelayGrid, Dynamics, EnergyUnit, PhaseErrors, Response, RunRequest,
 };
 use std::path::PathBuf;
 use std::time::Duration;
@@ -259,59 +258,18 @@ fn spinner(show: bool) -> ProgressBar {
     bar
 }
 
-fn ideal_data(sel: &Selection, resp: &Response) -> Vec<OutputData> {
-    ideal_outputs(sel, resp)
-        .into_iter()
-        .map(|(name, values)| {
-            let kept = sel
-                .outputs
-                .iter()
-                .find(|o| o.name == name)
-                .map(|o| o.kept.clone())
-                .unwrap_or_default();
-            let classes = kept_classes(resp, &kept);
-            OutputData {
-                name,
-                kept,
-                mode: excitation_axis(&classes),
-                classes,
-                real: false,
-                measured: None,
-                ideal: values,
-            }
-        })
-        .collect()
-}
-
-fn measured_data(run: &CycleRun, resp: &Response) -> Vec<OutputData> {
-    run.combined
-        .outputs
-        .iter()
-        .zip(&run.ideal)
-        .map(|(o, ideal)| {
-            let classes = kept_classes(resp, &o.kept);
-            OutputData {
-                name: o.name.clone(),
-                kept: o.kept.clone(),
-                mode: excitation_axis(&classes),
-                classes,
-                real: o.real,
-                measured: Some(o.values.clone()),
-                ideal: ideal.clone(),
-            }
-        })
-        .collect()
-}
-
 /// The middle-delay indices of the spectra, their label, and the window; `None` when the grid
 /// gives no spectrum.
+/// Middle-delay indices, their label and the window of the spectra.
+type SpectrumParts = (Vec<usize>, String, [f64; 2]);
+
 fn spectrum_parts(
     a: &SimulateArgs,
     exp: &Experiment,
     dyn_: &Dynamics,
     grid: &DelayGrid,
     unit: EnergyUnit,
-) -> anyhow::Result<Option<(Vec<usize>, String, [f64; 2])>> {
+) -> anyhow::Result<Option<SpectrumParts>> {
     if !simulate_files::spectra_possible(grid) {
         if !a.at.is_empty() || a.window.is_some() {
             bail!("--at and --window need a spectrum: give t1 and the last delay as ranges START:STEP:STOP");
@@ -401,9 +359,7 @@ fn auto_pad(grid: &DelayGrid, window: [f64; 2], unit: EnergyUnit) -> usize {
     (need.min(2048.0) as usize).next_power_of_two()
 }
 
-/// Run the subcommand.
-pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
-    let layout = Layout::from_out(&a.out)?;
+fn check_numbers(a: &SimulateArgs) -> anyhow::Result<()> {
     if !(a.noise.is_finite() && a.noise >= 0.0) {
         bail!(
             "--noise {}: give a standard deviation >= 0 relative to the wanted signal",
@@ -416,8 +372,26 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
     if !(a.png_scale.is_finite() && a.png_scale > 0.0 && a.png_scale <= 16.0) {
         bail!("--png-scale {}: use a number in (0, 16]", a.png_scale);
     }
+    Ok(())
+}
+
+/// Everything read and parsed before the targets are checked.
+struct Prepared {
+    exp: Experiment,
+    dyn_: Dynamics,
+    names: Vec<String>,
+    grid: DelayGrid,
+    unit: EnergyUnit,
+    sel: Selection,
+    cycle: Option<pathsieve::cycle::Cycle>,
+    rules: Backgrounds,
+    errors: PhaseErrors,
+}
+
+fn prepare(a: &SimulateArgs) -> anyhow::Result<Prepared> {
+    check_numbers(a)?;
     let exp = read_experiment(&a.experiment)?;
-    let dyn_ = dynamics_of(&a, &exp)?;
+    let dyn_ = dynamics_of(a, &exp)?;
     let names = delay_names(&exp)?;
     let grid = grid(&names, &a.delays)?;
     let unit = match &a.unit {
@@ -436,104 +410,80 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
         exp.backgrounds.clone()
     }
     .overlaid(&background_args(&a.backgrounds, &exp)?);
-    let errors = phase_errors(&a, &exp)?;
+    let errors = phase_errors(a, &exp)?;
     if cycle.is_none()
         && (!a.backgrounds.is_empty() || a.noise > 0.0 || errors != PhaseErrors::default())
     {
         bail!("backgrounds, phase errors and noise belong to an acquisition: give a CYCLE as well");
     }
-    let output_names: Vec<String> = match &cycle {
+    Ok(Prepared {
+        exp,
+        dyn_,
+        names,
+        grid,
+        unit,
+        sel,
+        cycle,
+        rules,
+        errors,
+    })
+}
+
+/// Every target, checked before any work.
+fn check_files(a: &SimulateArgs, p: &Prepared, layout: &Layout) -> anyhow::Result<()> {
+    let output_names: Vec<String> = match &p.cycle {
         Some(c) => c.outputs.iter().map(|o| o.name.clone()).collect(),
-        None => sel.outputs.iter().map(|o| o.name.clone()).collect(),
+        None => p.sel.outputs.iter().map(|o| o.name.clone()).collect(),
     };
     let plan = simulate_files::plan(
-        &layout,
+        layout,
         &output_names,
-        &names,
-        &grid,
-        cycle.is_some(),
+        &p.names,
+        &p.grid,
+        p.cycle.is_some(),
         a.png,
     );
     let mut inputs = vec![a.experiment.as_path()];
     inputs.extend(a.cycle.as_deref());
     let targets: Vec<&std::path::Path> = plan.iter().map(|p| p.as_path()).collect();
-    pathsieve::safe_write::check_targets(&targets, &inputs, a.force)?;
-    let spectrum_parts = spectrum_parts(&a, &exp, &dyn_, &grid, unit)?;
+    Ok(pathsieve::safe_write::check_targets(
+        &targets, &inputs, a.force,
+    )?)
+}
 
-    let heavy = grid
-        .len()
-        .saturating_mul(cycle.as_ref().map_or(1, |c| c.len()))
-        > 200_000;
-    let bar = spinner(heavy && !a.json);
-    bar.set_message(format!(
-        "simulating the response on {} delay points",
-        grid.len()
-    ));
-    let resp = simulate_response(&exp, &dyn_, a.frame, &grid, a.undersample)?;
-    let mut summary = simulate_files::Summary::new(&simulate_files::Setup {
-        experiment: &a.experiment,
-        cycle: a.cycle.as_deref(),
-        exp: &exp,
-        dyn_: &dyn_,
-        grid: &grid,
-        unit,
-        frame: a.frame,
-        undersample: a.undersample,
-        seed: a.seed,
-        noise: a.noise,
-        errors: &errors,
-        resp: &resp,
-    })?;
-    let mut leaks = false;
-    let outputs = match &cycle {
-        None => ideal_data(&sel, &resp),
-        Some(c) => {
-            bar.set_message(format!("measuring {} steps", c.len()));
-            let req = RunRequest {
-                backgrounds: rules,
-                errors,
-                noise: a.noise,
-                seed: a.seed,
-            };
-            let run = simulate_cycle(&sel, c, &resp, &req)
-                .with_context(|| format!("simulating the cycle on {}", a.experiment.display()))?;
-            let report =
-                pathsieve::check::check(&sel, c, &pathsieve::check::CheckOptions::default())?;
-            leaks = !report.clean;
-            summary.set_run(&run, report.clean);
-            let outputs = measured_data(&run, &resp);
-            summary.steps = Some(run.steps);
-            outputs
-        }
+/// The outputs (ideal only, or an acquisition of the cycle) and whether the cycle leaks.
+fn acquire(
+    a: &SimulateArgs,
+    p: Prepared,
+    resp: &Response,
+    summary: &mut simulate_summary::Summary,
+    bar: &ProgressBar,
+) -> anyhow::Result<(Vec<OutputData>, bool)> {
+    let Some(c) = &p.cycle else {
+        return Ok((simulate_files::ideal_data(&p.sel, resp), false));
     };
-    let paired = |o: &OutputData| o.kept.iter().any(|t| o.kept.contains(&t.conjugate()));
-    if a.frame != 0.0 && outputs.iter().any(paired) {
-        summary.notes.push("an output keeps both t and -t (real signal) in a rotating frame: the conjugate half lies mirrored about the frame, at 2 x frame - w; keep the frame below the band by more than its width, or use --frame 0 (docs/simulate.md)".into());
-    }
-    bar.set_message("computing the spectra");
-    let setup =
-        spectrum_parts
-            .as_ref()
-            .map(|(fixed, at_label, window)| simulate_files::SpectrumSetup {
-                grid: &grid,
-                fixed: fixed.clone(),
-                unit,
-                frame_in_unit: unit.from_angular(dyn_.energy_unit.to_angular(a.frame)),
-                pad: a.pad.unwrap_or_else(|| auto_pad(&grid, *window, unit)),
-                window: *window,
-                title: &exp.title,
-                at_label: at_label.clone(),
-                png_scale: a.png.then_some(a.png_scale),
-            });
-    if let Some((fixed, _, window)) = &spectrum_parts {
-        summary.set_spectrum_at(&grid, fixed, *window);
-    } else {
-        summary.notes.push("no spectra: they need three delays or more, the first and the last evenly spaced with two points or more".into());
-    }
-    let files = simulate_files::build(&layout, &grid, setup.as_ref(), &mut summary, &outputs)?;
-    bar.set_message("writing the files");
-    pathsieve::safe_write::write_many_atomic(&files, a.force)?;
-    bar.finish_and_clear();
+    bar.set_message(format!("measuring {} steps", c.len()));
+    let req = RunRequest {
+        backgrounds: p.rules,
+        errors: p.errors,
+        noise: a.noise,
+        seed: a.seed,
+    };
+    let run = simulate_cycle(&p.sel, c, resp, &req)
+        .with_context(|| format!("simulating the cycle on {}", a.experiment.display()))?;
+    let report = pathsieve::check::check(&p.sel, c, &pathsieve::check::CheckOptions::default())?;
+    summary.set_run(&run, report.clean);
+    let outputs = simulate_files::measured_data(&run, resp);
+    summary.steps = Some(run.steps);
+    Ok((outputs, !report.clean))
+}
+
+fn finish(
+    a: &SimulateArgs,
+    files: &[(PathBuf, Vec<u8>)],
+    summary: &simulate_summary::Summary,
+    leaks: bool,
+) -> anyhow::Result<u8> {
     if a.json {
         super::output::print(&String::from_utf8_lossy(&summary.json_bytes()))?;
     } else {
@@ -548,4 +498,62 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
         return Ok(1);
     }
     Ok(0)
+}
+
+/// Run the subcommand.
+pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
+    let layout = Layout::from_out(&a.out)?;
+    let p = prepare(&a)?;
+    check_files(&a, &p, &layout)?;
+    let parts = spectrum_parts(&a, &p.exp, &p.dyn_, &p.grid, p.unit)?;
+    let steps = p.cycle.as_ref().map_or(1, |c| c.len());
+    let bar = spinner(p.grid.len().saturating_mul(steps) > 200_000 && !a.json);
+    bar.set_message(format!(
+        "simulating the response on {} delay points",
+        p.grid.len()
+    ));
+    let resp = simulate_response(&p.exp, &p.dyn_, a.frame, &p.grid, a.undersample)?;
+    let mut summary = simulate_summary::Summary::new(&simulate_summary::Setup {
+        experiment: &a.experiment,
+        cycle: a.cycle.as_deref(),
+        exp: &p.exp,
+        dyn_: &p.dyn_,
+        grid: &p.grid,
+        unit: p.unit,
+        frame: a.frame,
+        undersample: a.undersample,
+        seed: a.seed,
+        noise: a.noise,
+        errors: &p.errors,
+        resp: &resp,
+    })?;
+    let (exp, dyn_, grid, unit) = (p.exp.clone(), p.dyn_.clone(), p.grid.clone(), p.unit);
+    let (outputs, leaks) = acquire(&a, p, &resp, &mut summary, &bar)?;
+    let paired = |o: &OutputData| o.kept.iter().any(|t| o.kept.contains(&t.conjugate()));
+    if a.frame != 0.0 && outputs.iter().any(paired) {
+        summary.notes.push("an output keeps both t and -t (real signal) in a rotating frame: the conjugate half lies mirrored about the frame, at 2 x frame - w; keep the frame below the band by more than its width, or use --frame 0 (docs/simulate.md)".into());
+    }
+    bar.set_message("computing the spectra");
+    let setup = parts
+        .as_ref()
+        .map(|(fixed, at_label, window)| simulate_files::SpectrumSetup {
+            grid: &grid,
+            fixed: fixed.clone(),
+            unit,
+            frame_in_unit: unit.from_angular(dyn_.energy_unit.to_angular(a.frame)),
+            pad: a.pad.unwrap_or_else(|| auto_pad(&grid, *window, unit)),
+            window: *window,
+            title: &exp.title,
+            at_label: at_label.clone(),
+            png_scale: a.png.then_some(a.png_scale),
+        });
+    match &parts {
+        Some((fixed, _, window)) => summary.set_spectrum_at(&grid, fixed, *window),
+        None => summary.notes.push("no spectra: they need three delays or more, the first and the last evenly spaced with two points or more".into()),
+    }
+    let files = simulate_files::build(&layout, &grid, setup.as_ref(), &mut summary, &outputs)?;
+    bar.set_message("writing the files");
+    pathsieve::safe_write::write_many_atomic(&files, a.force)?;
+    bar.finish_and_clear();
+    finish(&a, &files, &summary, leaks)
 }

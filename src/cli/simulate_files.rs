@@ -2,6 +2,7 @@
 //! array), the spectra of every output (ideal, as measured, leak), the metadata sidecar that is
 //! also the `--json` summary, and one picture per output (SVG, PNG with `--png`).
 
+use super::simulate_summary::{name_of, OutputSummary, Summary};
 use anyhow::bail;
 use num_complex::Complex64;
 use pathsieve::combine::data_file::{npy_path_for, safe_name};
@@ -9,17 +10,15 @@ use pathsieve::export::npy::{npy_c128, npy_f64};
 use pathsieve::export::npz::write_npz;
 use pathsieve::model::{Experiment, PathwayClass};
 use pathsieve::render::spectrum_svg::{spectrum_svg, Component, Panel, SpectrumPicture};
+use pathsieve::selection::Selection;
 use pathsieve::signature::Signature;
-use pathsieve::simulate::run::CycleRun;
+use pathsieve::simulate::run::{excitation_axis, kept_classes, CycleRun};
+use pathsieve::simulate::{ideal_outputs, Response};
 use pathsieve::simulate::{
-    spectrum_2d, transition_window, DelayGrid, Dynamics, EnergyUnit, ExcitationAxis, PhaseErrors,
-    Response, SimulatedBackground, Spectrum2D, SpectrumRequest, StepSeries,
+    spectrum_2d, transition_window, DelayGrid, Dynamics, EnergyUnit, ExcitationAxis, Spectrum2D,
+    SpectrumRequest,
 };
-use serde::Serialize;
 use std::path::{Path, PathBuf};
-
-/// Version of the simulate metadata layout.
-pub const SCHEMA_VERSION: u32 = 1;
 
 /// Where the arrays go.
 pub struct Layout {
@@ -109,6 +108,52 @@ pub fn spectra_possible(grid: &DelayGrid) -> bool {
     n >= 3 && grid.axes[0].step().is_some() && grid.axes[n - 1].step().is_some()
 }
 
+/// The ideal kept signal of every wanted output (no cycle).
+pub fn ideal_data(sel: &Selection, resp: &Response) -> Vec<OutputData> {
+    ideal_outputs(sel, resp)
+        .into_iter()
+        .map(|(name, values)| {
+            let kept = sel
+                .outputs
+                .iter()
+                .find(|o| o.name == name)
+                .map(|o| o.kept.clone())
+                .unwrap_or_default();
+            let classes = kept_classes(resp, &kept);
+            OutputData {
+                name,
+                kept,
+                mode: excitation_axis(&classes),
+                classes,
+                real: false,
+                measured: None,
+                ideal: values,
+            }
+        })
+        .collect()
+}
+
+/// The outputs of a cycle run, as measured and ideal.
+pub fn measured_data(run: &CycleRun, resp: &Response) -> Vec<OutputData> {
+    run.combined
+        .outputs
+        .iter()
+        .zip(&run.ideal)
+        .map(|(o, ideal)| {
+            let classes = kept_classes(resp, &o.kept);
+            OutputData {
+                name: o.name.clone(),
+                kept: o.kept.clone(),
+                mode: excitation_axis(&classes),
+                classes,
+                real: o.real,
+                measured: Some(o.values.clone()),
+                ideal: ideal.clone(),
+            }
+        })
+        .collect()
+}
+
 /// Every file a run writes, known before any work (for the target check).
 pub fn plan(
     layout: &Layout,
@@ -160,208 +205,6 @@ pub struct OutputData {
     pub measured: Option<Vec<Complex64>>,
     /// Ideal.
     pub ideal: Vec<Complex64>,
-}
-
-/// One delay axis in the summary.
-#[derive(Serialize)]
-pub struct AxisSummary {
-    name: String,
-    points: usize,
-    first_fs: f64,
-    last_fs: f64,
-    step_fs: Option<f64>,
-}
-
-/// One output in the summary.
-#[derive(Serialize)]
-pub struct OutputSummary {
-    name: String,
-    kept: Vec<Signature>,
-    classes: Vec<&'static str>,
-    excitation_axis: ExcitationAxis,
-    picture: &'static str,
-    real: bool,
-    ideal_peak: f64,
-    leak_peak: Option<f64>,
-    leak_relative: Option<f64>,
-    /// Largest modulus inside the picture's window.
-    spectrum_ideal_peak: Option<f64>,
-    spectrum_leak_peak: Option<f64>,
-    spectrum_leak_relative: Option<f64>,
-    stored_as: Vec<String>,
-}
-
-/// One signal term in the summary.
-#[derive(Serialize)]
-pub struct TermSummary {
-    signature: Signature,
-    classes: Vec<&'static str>,
-    pathways: usize,
-}
-
-/// The metadata sidecar and `--json` summary.
-#[derive(Serialize)]
-pub struct Summary {
-    schema_version: u32,
-    tool: &'static str,
-    version: &'static str,
-    content: &'static str,
-    model: &'static str,
-    experiment: String,
-    experiment_sha256: String,
-    cycle: Option<String>,
-    cycle_clean: Option<bool>,
-    fields: Vec<String>,
-    delay_unit: &'static str,
-    energy_unit: &'static str,
-    axis_unit: &'static str,
-    frame: f64,
-    undersample: bool,
-    grid: Vec<AxisSummary>,
-    spectrum_at_fs: Vec<(String, f64)>,
-    /// The frequency window of the pictures, in the axis unit.
-    window: Option<[f64; 2]>,
-    seed: u64,
-    noise: f64,
-    phase_errors_turns: PhaseErrors,
-    reference_amplitude: Option<f64>,
-    backgrounds: Vec<SimulatedBackground>,
-    step_order: Option<&'static str>,
-    steps_shape: Option<Vec<usize>>,
-    signal_terms: Vec<TermSummary>,
-    not_phase_matched: Vec<Signature>,
-    outputs: Vec<OutputSummary>,
-    files: Vec<String>,
-    /// Sentences for people.
-    pub notes: Vec<String>,
-    /// The per-step data (written, not serialised).
-    #[serde(skip)]
-    pub steps: Option<StepSeries>,
-}
-
-fn name_of(p: &Path) -> String {
-    p.file_name().map_or_else(
-        || p.display().to_string(),
-        |n| n.to_string_lossy().into_owned(),
-    )
-}
-
-/// What the summary starts from.
-pub struct Setup<'a> {
-    pub experiment: &'a Path,
-    pub cycle: Option<&'a Path>,
-    pub exp: &'a Experiment,
-    pub dyn_: &'a Dynamics,
-    pub grid: &'a DelayGrid,
-    pub unit: EnergyUnit,
-    pub frame: f64,
-    pub undersample: bool,
-    pub seed: u64,
-    pub noise: f64,
-    pub errors: &'a PhaseErrors,
-    pub resp: &'a Response,
-}
-
-impl Summary {
-    /// The summary before the run.
-    pub fn new(s: &Setup) -> anyhow::Result<Summary> {
-        let bytes = pathsieve::input_text::read_bytes(s.experiment)?;
-        let classes = |c: &[PathwayClass]| c.iter().map(|x| x.short()).collect::<Vec<_>>();
-        let notes = vec![format!(
-            "delays in fs; frame {} {} per quantum ({}); the spectrum axes are in {}",
-            s.frame,
-            s.dyn_.energy_unit.label(),
-            if s.frame == 0.0 {
-                "lab frame"
-            } else {
-                "rotating frame: see docs/simulate.md for its sign"
-            },
-            s.unit.label()
-        )];
-        Ok(Summary {
-            schema_version: SCHEMA_VERSION,
-            tool: "pathsieve",
-            version: env!("CARGO_PKG_VERSION"),
-            content: if s.cycle.is_some() { "simulated acquisition of a phase cycle" } else { "simulated ideal kept signals" },
-            model: "impulsive limit, rotating-wave approximation, response functions per pathway (Mukamel 1995, ch. 6)",
-            experiment: name_of(s.experiment),
-            experiment_sha256: pathsieve::export::meta::sha256_hex(&bytes),
-            cycle: s.cycle.map(name_of),
-            cycle_clean: None,
-            fields: s.exp.field_names(),
-            delay_unit: "fs",
-            energy_unit: s.dyn_.energy_unit.label(),
-            axis_unit: s.unit.label(),
-            frame: s.frame,
-            undersample: s.undersample,
-            grid: s
-                .grid
-                .axes
-                .iter()
-                .map(|a| AxisSummary {
-                    name: a.name.clone(),
-                    points: a.times_fs.len(),
-                    first_fs: a.times_fs.first().copied().unwrap_or(0.0),
-                    last_fs: a.times_fs.last().copied().unwrap_or(0.0),
-                    step_fs: a.step(),
-                })
-                .collect(),
-            spectrum_at_fs: Vec::new(),
-            window: None,
-            seed: s.seed,
-            noise: s.noise,
-            phase_errors_turns: s.errors.clone(),
-            reference_amplitude: None,
-            backgrounds: Vec::new(),
-            step_order: None,
-            steps_shape: None,
-            signal_terms: s
-                .resp
-                .terms
-                .iter()
-                .map(|t| TermSummary {
-                    signature: t.signature.clone(),
-                    classes: classes(&t.classes),
-                    pathways: t.pathways,
-                })
-                .collect(),
-            not_phase_matched: s.resp.unmatched.clone(),
-            outputs: Vec::new(),
-            files: Vec::new(),
-            notes,
-            steps: None,
-        })
-    }
-
-    /// Record a cycle run.
-    pub fn set_run(&mut self, run: &CycleRun, clean: bool) {
-        self.cycle_clean = Some(clean);
-        self.reference_amplitude = Some(run.reference);
-        self.backgrounds = run.backgrounds.clone();
-        self.step_order = Some("designed (the cycle file's order)");
-        self.steps_shape = Some(run.steps.shape.clone());
-    }
-
-    /// Record the middle delays of the spectra.
-    pub fn set_spectrum_at(&mut self, grid: &DelayGrid, fixed: &[usize], window: [f64; 2]) {
-        self.window = Some(window);
-        let n = grid.axes.len();
-        self.spectrum_at_fs = (1..n - 1)
-            .map(|k| {
-                (
-                    grid.axes[k].name.clone(),
-                    grid.axes[k].times_fs[fixed[k - 1]],
-                )
-            })
-            .collect();
-    }
-
-    /// Pretty JSON bytes with a trailing newline.
-    pub fn json_bytes(&self) -> Vec<u8> {
-        let mut s = serde_json::to_string_pretty(self).unwrap_or_else(|_| "{}".into());
-        s.push('\n');
-        s.into_bytes()
-    }
 }
 
 /// The largest modulus of a spectrum inside the window (on both axes).
@@ -490,59 +333,7 @@ pub fn build(
             stored_as: Vec::new(),
         };
         if let Some(s) = spec {
-            let ideal = spectrum(&o.ideal, s, o.mode)?;
-            let sshape = [ideal.excitation.len(), ideal.detection.len()];
-            arrays.push((
-                format!("{n}.ideal_spectrum"),
-                npy_c128(&sshape, &ideal.values)?,
-            ));
-            stored.push(format!("{n}.ideal_spectrum"));
-            if arrays.iter().all(|a| a.0 != "excitation") {
-                arrays.push((
-                    "excitation".into(),
-                    npy_f64(&[sshape[0]], &ideal.excitation)?,
-                ));
-                arrays.push(("detection".into(), npy_f64(&[sshape[1]], &ideal.detection)?));
-            }
-            let ideal_window_peak = window_peak(&ideal, s.window);
-            sum.spectrum_ideal_peak = Some(ideal_window_peak);
-            let mut panels_data: Vec<(String, Spectrum2D)> = vec![("ideal".into(), ideal.clone())];
-            if let Some(m) = &o.measured {
-                let meas = spectrum(m, s, o.mode)?;
-                arrays.push((format!("{n}.spectrum"), npy_c128(&sshape, &meas.values)?));
-                stored.push(format!("{n}.spectrum"));
-                let mut diff = meas.clone();
-                for (d, i) in diff.values.iter_mut().zip(&ideal.values) {
-                    *d -= i;
-                }
-                let lp = window_peak(&diff, s.window);
-                sum.spectrum_leak_peak = Some(lp);
-                sum.spectrum_leak_relative = Some(lp / ideal_window_peak.max(f64::MIN_POSITIVE));
-                panels_data.push(("as measured".into(), meas));
-                let rel = lp / ideal_window_peak.max(f64::MIN_POSITIVE);
-                panels_data.push((
-                    format!(
-                        "leak = measured − ideal, peak {} of the ideal's",
-                        percent(rel)
-                    ),
-                    diff,
-                ));
-            }
-            let pic = SpectrumPicture {
-                title: format!(
-                    "{} — output {} ({}), {}; {}; excitation ω1 vertical, detection ω3 horizontal{}",
-                    s.title,
-                    o.name,
-                    sum.classes.join(" + "),
-                    s.at_label,
-                    sum.picture,
-                    if o.measured.is_some() { "; all panels on the ideal's colour scale" } else { "" }
-                ),
-                panels: panels_data.iter().map(|(c, sp)| Panel { caption: c.clone(), spectrum: sp }).collect(),
-                component,
-                window: s.window,
-            };
-            let svg = spectrum_svg(&pic);
+            let svg = output_spectra(o, s, component, &mut sum, &mut arrays, &mut stored)?;
             if let Some(scale) = s.png_scale {
                 files.push((layout.picture(&o.name, "png"), png_bytes(&svg, scale)?));
             }
@@ -564,6 +355,82 @@ pub fn build(
         arrays.push((a.name.clone(), npy_f64(&[a.times_fs.len()], &a.times_fs)?));
     }
     finish(layout, summary, arrays, files)
+}
+
+/// The spectra of one output (ideal, and as measured with the leak), their arrays and
+/// figures; returns the picture's SVG.
+fn output_spectra(
+    o: &OutputData,
+    s: &SpectrumSetup,
+    component: Component,
+    sum: &mut OutputSummary,
+    arrays: &mut Vec<(String, Vec<u8>)>,
+    stored: &mut Vec<String>,
+) -> anyhow::Result<String> {
+    let n = safe_name(&o.name);
+    let ideal = spectrum(&o.ideal, s, o.mode)?;
+    let sshape = [ideal.excitation.len(), ideal.detection.len()];
+    arrays.push((
+        format!("{n}.ideal_spectrum"),
+        npy_c128(&sshape, &ideal.values)?,
+    ));
+    stored.push(format!("{n}.ideal_spectrum"));
+    if arrays.iter().all(|a| a.0 != "excitation") {
+        arrays.push((
+            "excitation".into(),
+            npy_f64(&[sshape[0]], &ideal.excitation)?,
+        ));
+        arrays.push(("detection".into(), npy_f64(&[sshape[1]], &ideal.detection)?));
+    }
+    let ideal_window_peak = window_peak(&ideal, s.window);
+    sum.spectrum_ideal_peak = Some(ideal_window_peak);
+    let mut panels_data: Vec<(String, Spectrum2D)> = vec![("ideal".into(), ideal.clone())];
+    if let Some(m) = &o.measured {
+        let meas = spectrum(m, s, o.mode)?;
+        arrays.push((format!("{n}.spectrum"), npy_c128(&sshape, &meas.values)?));
+        stored.push(format!("{n}.spectrum"));
+        let mut diff = meas.clone();
+        for (d, i) in diff.values.iter_mut().zip(&ideal.values) {
+            *d -= i;
+        }
+        let lp = window_peak(&diff, s.window);
+        let rel = lp / ideal_window_peak.max(f64::MIN_POSITIVE);
+        sum.spectrum_leak_peak = Some(lp);
+        sum.spectrum_leak_relative = Some(rel);
+        panels_data.push(("as measured".into(), meas));
+        panels_data.push((
+            format!(
+                "leak = measured − ideal, peak {} of the ideal's",
+                percent(rel)
+            ),
+            diff,
+        ));
+    }
+    let pic = SpectrumPicture {
+        title: format!(
+            "{} — output {} ({}), {}; {}; excitation ω1 vertical, detection ω3 horizontal{}",
+            s.title,
+            o.name,
+            sum.classes.join(" + "),
+            s.at_label,
+            sum.picture,
+            if o.measured.is_some() {
+                "; all panels on the ideal's colour scale"
+            } else {
+                ""
+            }
+        ),
+        panels: panels_data
+            .iter()
+            .map(|(c, sp)| Panel {
+                caption: c.clone(),
+                spectrum: sp,
+            })
+            .collect(),
+        component,
+        window: s.window,
+    };
+    Ok(spectrum_svg(&pic))
 }
 
 fn finish(

@@ -157,7 +157,7 @@ fn backgrounds(
                 b
             }
         })
-        .filter(|b| !is_signal(b) && !(real && is_signal(&b.conjugate())))
+        .filter(|b| !(is_signal(b) || (real && is_signal(&b.conjugate()))))
         .collect();
     reps.sort();
     reps.dedup();
