@@ -62,7 +62,7 @@ fn simulated_steps_combine_through_pathsieve_combine_to_the_simulated_outputs() 
     let out = dir.path().join("run.npy");
     let (code, text, err) = run_cli(&[
         "simulate",
-        &s(&scheme("carbonyl-pump-probe.toml")),
+        &s(&scheme("carbonyl-2dir-dynamics.toml")),
         &s(&scheme("carbonyl-2x2.cycle.toml")),
         "--delay",
         "t1=0:4:400",
@@ -98,7 +98,7 @@ fn simulated_steps_combine_through_pathsieve_combine_to_the_simulated_outputs() 
     }
     let (code, _, err) = run_cli(&[
         "combine",
-        &s(&scheme("carbonyl-pump-probe.toml")),
+        &s(&scheme("carbonyl-2dir-dynamics.toml")),
         &s(&scheme("carbonyl-2x2.cycle.toml")),
         &s(&dir.path().join("run.steps.npy")),
         "--out",
@@ -282,7 +282,7 @@ fn the_absorptive_pump_probe_spectrum_is_the_sum_of_rephasing_and_non_rephasing(
     // absorptive spectrum Re[S_R(-w1, w3) + S_NR(w1, w3)] (common practice; Hamm & Zanni 2011,
     // ch. 4 (memory)). The real detected signal also holds the negative-frequency half, whose
     // Lorentzian tails reach the positive quadrant at ~G/(2w) ~ 1e-3 of the peak (found: 1.3e-4).
-    let path = scheme("carbonyl-pump-probe.toml");
+    let path = scheme("carbonyl-2dir-dynamics.toml");
     let exp = read_experiment(&path).unwrap();
     let text = std::fs::read_to_string(&path).unwrap();
     let dyn_ = parse_dynamics(&text, &path, exp.levels.as_ref().unwrap())
@@ -360,7 +360,7 @@ fn draw_spectrum_reads_a_run_back_and_refuses_what_it_cannot_draw() {
     let run = dir.path().join("run.npz");
     let (code, _, err) = run_cli(&[
         "simulate",
-        &s(&scheme("carbonyl-pump-probe.toml")),
+        &s(&scheme("carbonyl-2dir-dynamics.toml")),
         &s(&scheme("carbonyl-2x2.cycle.toml")),
         "--delay",
         "t1=0:4:800",
