@@ -262,8 +262,12 @@ pub fn run(a: SpectrumArgs) -> anyhow::Result<u8> {
     {
         bail!("--out {}: end the picture's path in .svg", a.out.display());
     }
-    let layout =
-        Layout::from_out(&a.run).map_err(|e| anyhow::anyhow!("{}: {e}", a.run.display()))?;
+    let layout = Layout::from_out(&a.run).map_err(|_| {
+        anyhow::anyhow!(
+            "{}: give the --out of a `pathsieve simulate` run (RUN.npz or RUN.npy); to draw an experiment, simulate it first: pathsieve simulate EXPERIMENT --delay t1=0:4:800 --delay t3=0:4:800 --out run.npz",
+            a.run.display()
+        )
+    })?;
     let meta_path = layout.meta();
     let png_path = a.out.with_extension("png");
     let mut targets = vec![a.out.as_path()];

@@ -37,7 +37,7 @@ Files (OUT.npz or OUT.npy): OUT.steps.npz/.npy per-step data [steps, delays...] 
 combine` reads them; per output NAME the time-domain data NAME.time and NAME.ideal_time, the \
 spectra NAME.spectrum and NAME.ideal_spectrum [excitation, detection], the axes t1.., \
 excitation, detection; OUT.meta.json; OUT.NAME.svg (and .png). docs/simulate.md.\n\
-Exit codes: 0 written, 1 written but the cycle leaks beyond the phase errors (exact check), 2 \
+Exit codes: 0 written, 1 written but the cycle leaks (exact check of the nominal phases), 2 \
 usage or input error.")]
 pub struct SimulateArgs {
     /// Experiment file (TOML) with a [dynamics] table and state energies.
