@@ -460,3 +460,51 @@ fn simulate_refuses_bad_requests_before_writing_anything() {
     assert_eq!(code, 2);
     assert!(err.contains("no [dynamics] table"), "{err}");
 }
+
+#[test]
+fn a_fixed_phase_offset_turns_each_kept_term_by_its_signature_and_still_cancels_backgrounds() {
+    // A constant offset d_j on field j multiplies every term b by exp(+i 2 pi b.d) (the
+    // convention of docs/combine.md): a cycle that cancels b still cancels it, and a kept term
+    // t comes out turned by exp(+i 2 pi t.d) (common practice: a phase offset rotates the
+    // signal's phase, it does not add leaks).
+    let dir = tempfile::tempdir().unwrap();
+    let path = scheme("two-level-emission.toml");
+    let cycle_path = design(dir.path(), &path);
+    let exp = read_experiment(&path).unwrap();
+    let text = std::fs::read_to_string(&path).unwrap();
+    let dyn_ = parse_dynamics(&text, &path, exp.levels.as_ref().unwrap())
+        .unwrap()
+        .unwrap();
+    let cycle = read_cycle(&cycle_path, None).unwrap();
+    let sel = Selection::new(&exp, &SelectionRequest::default()).unwrap();
+    let resp = simulate_response(&exp, &dyn_, 2.2, &point_grid(3), true).unwrap();
+    let mut rules = Backgrounds::default();
+    rules.set(pathsieve::model::backgrounds::BackgroundRule {
+        key: pathsieve::model::backgrounds::parse_key("default", &exp).unwrap(),
+        size: 1000.0,
+        given_in: "test".into(),
+    });
+    let offsets = vec![0.0, 10.0 / 360.0, -25.0 / 360.0, 0.0];
+    let req = RunRequest {
+        backgrounds: rules,
+        errors: PhaseErrors {
+            offsets: offsets.clone(),
+            ..PhaseErrors::default()
+        },
+        noise: 0.0,
+        seed: 5,
+    };
+    let run = simulate_cycle(&sel, &cycle, &resp, &req).unwrap();
+    for (o, ideal) in run.combined.outputs.iter().zip(&run.ideal) {
+        let t = &o.kept[0];
+        let turns: f64 = t.0.iter().zip(&offsets).map(|(&b, d)| b as f64 * d).sum();
+        let want = ideal[0] * Complex64::from_polar(1.0, std::f64::consts::TAU * turns);
+        let got = o.values[0];
+        assert!(
+            (got - want).norm() <= 1e-9 * ideal[0].norm(),
+            "{}: {got} against {want}",
+            o.name
+        );
+        assert!((got - ideal[0]).norm() > 0.1 * ideal[0].norm());
+    }
+}
