@@ -65,9 +65,9 @@ enum Picture {
         #[arg(long)]
         force: bool,
     },
-    /// One phase wheel per field, with the phases it visits.
     /// The 2D spectrum of one output of a `pathsieve simulate` run.
     Spectrum(super::draw_spectrum_cmd::SpectrumArgs),
+    /// One phase wheel per field, with the phases it visits.
     Wheels {
         /// Cycle table (TOML or CSV).
         cycle: PathBuf,
