@@ -65,6 +65,8 @@ enum Picture {
         #[arg(long)]
         force: bool,
     },
+    /// The 2D spectrum of one output of a `pathsieve simulate` run.
+    Spectrum(super::draw_spectrum_cmd::SpectrumArgs),
     /// One phase wheel per field, with the phases it visits.
     Wheels {
         /// Cycle table (TOML or CSV).
@@ -154,6 +156,7 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
             write_atomic(&out, leakage_svg::leakage_svg(&chart).as_bytes(), force)?;
             eprintln!("wrote the leakage chart to {}", out.display());
         }
+        Picture::Spectrum(s) => return super::draw_spectrum_cmd::run(s),
         Picture::Wheels { cycle, out, force } => {
             check_targets(&[&out], &[&cycle], force)?;
             let c = read_cycle(&cycle, None)?;

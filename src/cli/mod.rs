@@ -6,10 +6,14 @@ mod combine_cmd;
 mod design_cmd;
 mod design_progress;
 mod draw_cmd;
+mod draw_spectrum_cmd;
 mod export_cmd;
 mod output;
 mod pathways_cmd;
 pub mod signals;
+mod simulate_cmd;
+mod simulate_files;
+mod simulate_summary;
 
 use clap::{Parser, Subcommand};
 
@@ -38,6 +42,9 @@ enum Command {
     Combine(combine_cmd::CombineArgs),
     /// Draw pictures (SVG): double-sided diagrams, a leakage chart, phase wheels.
     Draw(draw_cmd::DrawArgs),
+    /// Simulate per-step data of a cycle (backgrounds, phase errors, noise), combine it, and
+    /// write time-domain data, 2D spectra and pictures of the ideal and as-measured outputs.
+    Simulate(simulate_cmd::SimulateArgs),
 }
 
 /// Run the parsed command; returns the exit code.
@@ -50,6 +57,7 @@ pub fn run(cli: Cli) -> anyhow::Result<u8> {
         Command::Export(a) => export_cmd::run(a),
         Command::Combine(a) => combine_cmd::run(a),
         Command::Draw(a) => draw_cmd::run(a),
+        Command::Simulate(a) => simulate_cmd::run(a),
     }
 }
 
