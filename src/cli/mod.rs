@@ -9,6 +9,7 @@ mod draw_cmd;
 mod export_cmd;
 mod output;
 mod pathways_cmd;
+mod picture_out;
 pub mod signals;
 
 use clap::{Parser, Subcommand};

@@ -3,6 +3,7 @@
 //! declares a grid, and each phase labelled in turns and degrees. Angles run counter-clockwise
 //! from 0 at the right (3 o'clock), as on the complex plane of exp(i phi).
 
+use super::fonts::wrap;
 use super::svg::Svg;
 use crate::cycle::text::format_phase;
 use crate::cycle::{Cycle, Phase};
@@ -19,19 +20,28 @@ pub fn wheels_svg(cycle: &Cycle, title: &str) -> String {
     let n = cycle.fields.len().max(1);
     let cols = COLS.min(n);
     let rows = n.div_ceil(cols);
-    let mut svg = Svg::new(CELL_W * cols as f64 + 20.0, CELL_H * rows as f64 + 64.0);
-    svg.text(10.0, 22.0, 15.0, "start", "#222", title);
-    svg.text(
-        10.0,
-        40.0,
-        11.0,
-        "start",
-        "#555",
+    let width = CELL_W * cols as f64 + 20.0;
+    // Title and explanation wrapped to the sheet (a one-wheel sheet is narrow).
+    let title_lines = wrap(title, 15.0, width - 20.0);
+    let note_lines = wrap(
         "phase wheels: 0 at 3 o'clock, counter-clockwise; dot area ∝ steps using the phase; labels in turns and degrees",
+        11.0,
+        width - 20.0,
     );
+    let top = 8.0 + 19.0 * title_lines.len() as f64 + 14.0 * note_lines.len() as f64;
+    let mut svg = Svg::new(width, CELL_H * rows as f64 + top + 24.0);
+    let mut y = 8.0;
+    for l in &title_lines {
+        y += 19.0;
+        svg.text(10.0, y - 4.0, 15.0, "start", "#222", l);
+    }
+    for l in &note_lines {
+        y += 14.0;
+        svg.text(10.0, y - 2.0, 11.0, "start", "#555", l);
+    }
     for (j, name) in cycle.fields.iter().enumerate() {
         let cx = 10.0 + CELL_W * (j % cols) as f64 + CELL_W / 2.0;
-        let cy = 56.0 + CELL_H * (j / cols) as f64 + CELL_H / 2.0 - 10.0;
+        let cy = top + 16.0 + CELL_H * (j / cols) as f64 + CELL_H / 2.0 - 10.0;
         let grid = cycle.meta.grid.as_ref().and_then(|g| g.get(j).copied());
         wheel(&mut svg, cycle, j, name, grid, cx, cy);
     }
@@ -62,19 +72,17 @@ fn wheel(svg: &mut Svg, cycle: &Cycle, j: usize, name: &str, grid: Option<u32>, 
         }
     }
     visits.sort_by(|a, b| a.0.turns_f64().total_cmp(&b.0.turns_f64()));
-    svg.text(
-        cx,
-        cy - R - 46.0,
-        13.0,
-        "middle",
-        "#222",
-        &format!(
-            "field {name} — {} phase{}{}",
-            visits.len(),
-            if visits.len() == 1 { "" } else { "s" },
-            grid.map_or(String::new(), |g| format!(", grid {g}"))
-        ),
+    let head = format!(
+        "field {name} — {} phase{}{}",
+        visits.len(),
+        if visits.len() == 1 { "" } else { "s" },
+        grid.map_or(String::new(), |g| format!(", grid {g}"))
     );
+    let lines = wrap(&head, 13.0, CELL_W - 16.0);
+    for (i, l) in lines.iter().take(2).enumerate() {
+        let y = cy - R - 46.0 - 15.0 * (lines.len().min(2) - 1 - i) as f64;
+        svg.text(cx, y, 13.0, "middle", "#222", l);
+    }
     svg.circle(cx, cy, R, "#fbfbf8", "#555");
     svg.line(cx - R - 6.0, cy, cx + R + 6.0, cy, "#ddd", 1.0, true);
     svg.line(cx, cy - R - 6.0, cx, cy + R + 6.0, "#ddd", 1.0, true);
