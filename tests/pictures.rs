@@ -238,6 +238,49 @@ fn leakage_charts_count_as_check_does_and_keep_labels_clear() {
 }
 
 #[test]
+fn leakage_chart_of_long_names_and_a_drifted_table_keeps_labels_clear() {
+    // A 2x2 pump cycle whose second and third rows drifted by 0.01 and 0.02 degrees, judged
+    // within the table's precision: the drift leaks from 2 pi x 0.01/360 x 2 ~ 3.5e-4 up
+    // (common practice), and without beam geometry the 2Q terms (+1,+1,-2) pass a 2x2 pump
+    // cycle whole (|F| = 4, as the kept terms). The axis spans 10^-4 .. 10^1, six decades.
+    let text = "title = \"An invented sample with long names\"\norder = 3\n[detection]\nmode = \"pump-probe\"\n\
+        [[field]]\nname = \"first-pump-from-the-shaper\"\n[[field]]\nname = \"second-pump\"\n\
+        [[field]]\nname = \"white-light-continuum-probe\"\nphase = \"fixed\"\n\
+        [levels]\nstates = [{ name = \"g\", manifold = 0 }, { name = \"e\", manifold = 1 }]\n\
+        [[signal]]\nname = \"absorptive-signal-with-a-long-output-name\"\nclasses = [\"rephasing\", \"non-rephasing\"]\n";
+    let e = exp(text);
+    let csv = "# unit = degrees\nstep,first-pump-from-the-shaper,second-pump,w:absorptive-signal-with-a-long-output-name\n\
+        1,0,0,1\n2,0,179.99,-1\n3,180.02,0,-1\n4,180,180,1\n";
+    let d = tempfile::tempdir().unwrap();
+    let path = d.path().join("drift.csv");
+    std::fs::write(&path, csv).unwrap();
+    let cycle = read_cycle(&path, None).unwrap();
+    let sel = Selection::new(&e, &SelectionRequest::default()).unwrap();
+    let report = check(&sel, &cycle, &CheckOptions::default()).unwrap();
+    let chart = leakage_chart(&sel, &cycle, &SnapPolicy::default()).unwrap();
+    let s = &chart.series[0];
+    assert!(!s.exact && s.leak_count() > 0);
+    assert_eq!(s.leak_count(), report.outputs[0].leak_count);
+    let scene = leakage_scene(&chart);
+    assert_clean(&scene, "drifted table");
+    let svg = scene.to_svg();
+    let decades: Vec<String> = scene
+        .labels
+        .iter()
+        .filter(|l| l.plain().starts_with("10") && l.spans.len() == 2)
+        .map(|l| l.spans[1].text.clone())
+        .collect();
+    assert_eq!(
+        decades,
+        ["1", "0", "\u{2212}1", "\u{2212}2", "\u{2212}3", "\u{2212}4"]
+    );
+    assert!(
+        svg.contains("e\u{2212}4"),
+        "three significant digits: {svg}"
+    );
+}
+
+#[test]
 fn the_leak_axis_spans_only_decades_with_data() {
     // The leaky 8-step table gives leaks of |F| = 1 only (two phase values per pulse: each
     // sum over steps is 8/8 or 0), so each of its three panels holds one decade mark (10^0),

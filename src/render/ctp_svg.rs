@@ -3,7 +3,7 @@
 //! that holds its order between pulses and jumps at each pulse). One panel per pathway, laid
 //! out as a [`Scene`] with measured boxes, like the double-sided diagrams.
 
-use super::diagram_svg::{grid_columns, sheet_width, title_block};
+use super::diagram_svg::{grid_columns, minus, sheet_width, title_block};
 use super::fonts::{ascent_descent, text_width, wrap};
 use super::scene::{Anchor, Scene, Span};
 use crate::model::{Detection, Experiment};
@@ -127,9 +127,13 @@ fn header(p: &Pathway, number: usize, width: f64) -> Vec<(f64, String)> {
         .map(|l| (HS, l))
         .collect();
     out.extend(
-        wrap(&format!("b = {}", p.signature), SS, width)
-            .into_iter()
-            .map(|l| (SS, l)),
+        wrap(
+            &format!("b = {}", minus(&p.signature.to_string())),
+            SS,
+            width,
+        )
+        .into_iter()
+        .map(|l| (SS, l)),
     );
     out
 }

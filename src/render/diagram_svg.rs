@@ -159,6 +159,11 @@ fn ground(exp: &Experiment) -> Element {
     Element { ket: g, bra: g }
 }
 
+/// Text with each hyphen-minus set as the typographic minus sign (U+2212).
+pub(super) fn minus(text: &str) -> String {
+    text.replace('-', "\u{2212}")
+}
+
 /// `+k` or `−k` with the field name as subscript.
 fn k_label(exp: &Experiment, i: &Interaction) -> Vec<Span> {
     let sign = if i.phase_sign() > 0 { "+" } else { "\u{2212}" };
@@ -180,7 +185,10 @@ fn header_lines(p: &Pathway, number: usize, width: f64) -> Vec<(f64, String)> {
     };
     let conj = if p.conjugate { " (c.c.)" } else { "" };
     let mut out: Vec<(f64, String)> = wrap(
-        &format!("#{number}  {class}{conj}  sign {:+}", p.sign),
+        &format!(
+            "#{number}  {class}{conj}  sign {}",
+            minus(&format!("{:+}", p.sign))
+        ),
         HS,
         width,
     )
@@ -188,9 +196,13 @@ fn header_lines(p: &Pathway, number: usize, width: f64) -> Vec<(f64, String)> {
     .map(|l| (HS, l))
     .collect();
     out.extend(
-        wrap(&format!("b = {}", p.signature), SS, width)
-            .into_iter()
-            .map(|l| (SS, l)),
+        wrap(
+            &format!("b = {}", minus(&p.signature.to_string())),
+            SS,
+            width,
+        )
+        .into_iter()
+        .map(|l| (SS, l)),
     );
     out
 }

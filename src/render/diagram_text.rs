@@ -33,12 +33,26 @@ pub fn diagram_text(exp: &Experiment, p: &Pathway) -> String {
         .max()
         .unwrap_or(0)
         .max(5);
-    let indent = " ".repeat(ket_w + 1);
-    let between = |e: &crate::pathways::Element| format!("{indent}{:^12}", element_label(exp, e));
-    rows.push(between(&crate::pathways::Element {
+    // The two lines as far apart as the widest element label needs.
+    let start = crate::pathways::Element {
         ket: ground,
         bra: ground,
-    }));
+    };
+    let inner = std::iter::once(&start)
+        .chain(&p.elements)
+        .map(|e| element_label(exp, e).chars().count() + 2)
+        .max()
+        .unwrap_or(0)
+        .max(10);
+    let indent = " ".repeat(ket_w + 1);
+    let lines = format!("|{}|", " ".repeat(inner));
+    let cell = inner + 2;
+    let between = |e: &crate::pathways::Element| {
+        format!("{indent}{:^cell$}", element_label(exp, e))
+            .trim_end()
+            .to_string()
+    };
+    rows.push(between(&start));
     for (i, inter) in p.interactions.iter().enumerate() {
         let arrow = if arrow_heading(inter) > 0 {
             "↗"
@@ -46,8 +60,8 @@ pub fn diagram_text(exp: &Experiment, p: &Pathway) -> String {
             "↖"
         };
         let row = match inter.side {
-            Side::Ket => format!("{:>ket_w$}{arrow}|          |", label(inter)),
-            Side::Bra => format!("{indent}|          |{arrow}{}", label(inter)),
+            Side::Ket => format!("{:>ket_w$}{arrow}{lines}", label(inter)),
+            Side::Bra => format!("{indent}{lines}{arrow}{}", label(inter)),
         };
         rows.push(row);
         rows.push(between(&p.elements[i]));

@@ -566,7 +566,11 @@ fn leak_list(scene: &mut Scene, s: &LeakageSeries, (left, y): (f64, f64), plot_w
             } else {
                 ""
             };
-            format!("|F{}|={}{conj};", t.signature, significant(t.abs))
+            let sig = t.signature.to_string().replace('-', "\u{2212}");
+            format!(
+                "|F{sig}|={}{conj};",
+                significant(t.abs).replace('-', "\u{2212}")
+            )
         })
         .collect();
     if leaking.len() > MAX_LABELS {
