@@ -16,6 +16,7 @@ use pathsieve::render::diagram_svg::diagrams_scene;
 use pathsieve::render::leakage::leakage_chart;
 use pathsieve::render::leakage_svg::{leakage_scene, significant};
 use pathsieve::render::scene::Scene;
+use pathsieve::render::wheels_svg::wheels_scene;
 use pathsieve::render::{arrow_heading, diagram_text::diagram_text};
 use pathsieve::selection::{Selection, SelectionRequest};
 
@@ -278,6 +279,26 @@ fn leakage_chart_of_long_names_and_a_drifted_table_keeps_labels_clear() {
         svg.contains("e\u{2212}4"),
         "three significant digits: {svg}"
     );
+}
+
+#[test]
+fn phase_wheels_keep_their_labels_clear() {
+    for (_, c) in CYCLES {
+        let cycle = read_cycle(&scheme(c), None).unwrap();
+        assert_clean(&wheels_scene(&cycle, &format!("{c} — a title")), c);
+    }
+    // Crowded wheels (4, 6, 8, 12, 30 phases) with a long field name: ring labels where their
+    // measured boxes fit, a wrapped list otherwise, never an overlap.
+    for n in [4usize, 6, 8, 12, 30] {
+        let steps: Vec<String> = (0..n).map(|m| format!("[\"{m}/{n}\", \"0\"]")).collect();
+        let text = format!(
+            "[cycle]\nunit = \"turns\"\ngrid = [{n}, 1]\nfields = [\"a-field-with-a-rather-long-name-indeed\", \"b\"]\nsteps = [{}]\n",
+            steps.join(", ")
+        );
+        let cycle =
+            pathsieve::cycle::read_cycle_toml(&text, "w.cycle.toml".as_ref(), None).unwrap();
+        assert_clean(&wheels_scene(&cycle, "crowded"), &format!("{n} phases"));
+    }
 }
 
 #[test]
