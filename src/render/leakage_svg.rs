@@ -349,7 +349,11 @@ fn panel(
             11.0,
             Anchor::Start,
             "#2d7d46",
-            "no leak: every rejected term has F = 0",
+            if s.exact {
+                "no leak: every rejected term has F = 0 exactly"
+            } else {
+                "no leak: every rejected term has F = 0 within the table's precision"
+            },
         );
         y += 26.0;
     }

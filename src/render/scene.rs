@@ -235,6 +235,8 @@ pub struct Mark {
     pub bbox: BBox,
     /// No text may touch it (data markers); backgrounds and frames are `false`.
     pub keep_clear: bool,
+    /// A framed rectangle: a text lies wholly inside it or wholly outside, never across its edge.
+    pub frame: bool,
 }
 
 #[derive(Clone, Debug, PartialEq)]
@@ -352,6 +354,7 @@ impl Scene {
             markup,
             bbox,
             keep_clear,
+            frame: false,
         });
     }
 
@@ -367,11 +370,14 @@ impl Scene {
             },
             false,
         );
+        if let Some(m) = self.marks.last_mut() {
+            m.frame = true;
+        }
     }
 
     /// Every way the layout breaks the rules: a text, segment or shape outside the canvas, two
     /// texts sharing area, a text over a keep-clear segment (its stroke and head included) or
-    /// keep-clear shape. Empty for a good picture.
+    /// keep-clear shape, a text across the edge of a rectangle. Empty for a good picture.
     pub fn problems(&self) -> Vec<String> {
         let mut out = Vec::new();
         let canvas = BBox {
@@ -423,6 +429,20 @@ impl Scene {
                         s.y1,
                         s.x2,
                         s.y2
+                    ));
+                }
+            }
+            for m in self.marks.iter().filter(|m| m.frame) {
+                let b = &boxes[i];
+                let within = b.x0 >= m.bbox.x0
+                    && b.x1 <= m.bbox.x1
+                    && b.y0 >= m.bbox.y0
+                    && b.y1 <= m.bbox.y1;
+                if b.overlaps(&m.bbox) && !within {
+                    out.push(format!(
+                        "text `{}` crosses the edge of {}",
+                        self.labels[i].plain(),
+                        m.markup
                     ));
                 }
             }
@@ -547,7 +567,10 @@ mod tests {
         s.text(4.0, 22.0, 12.0, Anchor::Start, "#000", "world");
         s.text(2.0, 20.0, 12.0, Anchor::End, "#000", "+k");
         s.line((20.0, 0.0), (20.0, 40.0), "#000", 1.0, false, true);
+        s.rect(60.0, 10.0, 30.0, 30.0, "none", "#000");
+        s.text(58.0, 30.0, 10.0, Anchor::Start, "#000", "x");
         let p = s.problems();
+        assert!(p.iter().any(|m| m.contains("crosses the edge")), "{p:?}");
         assert!(p.iter().any(|m| m.contains("overlaps")), "{p:?}");
         assert!(p.iter().any(|m| m.contains("leaves the canvas")), "{p:?}");
         assert!(p.iter().any(|m| m.contains("touches the line")), "{p:?}");
