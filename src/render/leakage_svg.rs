@@ -9,7 +9,9 @@
 
 use super::fonts::{ascent_descent, text_width, wrap};
 use super::leakage::{LeakageChart, LeakageSeries, TermKind, TermPoint};
-use super::scene::{Anchor, BBox, Scene, Span};
+pub use super::leakage_marks::significant;
+use super::leakage_marks::{legend, marker};
+use super::scene::{Anchor, Scene, Span};
 use crate::selection::LeakMeasure;
 use std::collections::BTreeMap;
 
@@ -71,27 +73,6 @@ fn make_group<'a>(label: String, note: String, terms: Vec<&'a TermPoint>) -> Gro
         note,
         terms,
         width,
-    }
-}
-
-/// A value with three significant digits: `0.500`, `9.12e-6`, `1`.
-pub fn significant(x: f64) -> String {
-    if x == 0.0 || !x.is_finite() {
-        return format!("{x}");
-    }
-    let e = x.abs().log10().floor() as i32;
-    if (-2..3).contains(&e) {
-        let decimals = (2 - e).max(0) as usize;
-        format!("{x:.decimals$}")
-    } else {
-        let m = x / 10f64.powi(e);
-        // Rounding can carry the mantissa to 10.0.
-        let (m, e) = if (m.abs() * 100.0).round() >= 1000.0 {
-            (m / 10.0, e + 1)
-        } else {
-            (m, e)
-        };
-        format!("{m:.2}e{e}")
     }
 }
 
@@ -231,64 +212,6 @@ fn lines(scene: &mut Scene, text: &str, size: f64, fill: &str, x: f64, y: f64, w
     y
 }
 
-/// The legend in rows no wider than `w`; returns the y below it.
-fn legend(scene: &mut Scene, x0: f64, y: f64, w: f64) -> f64 {
-    let items: [(&str, &str); 5] = [
-        ("wanted", "wanted term"),
-        ("leak", "leak (F ≠ 0)"),
-        ("conj", "conjugate of a wanted term"),
-        ("exact0", "F = 0 exactly"),
-        ("num0", "F ≈ 0 within the table's precision"),
-    ];
-    let (a, d) = ascent_descent(11.0);
-    let (mut x, mut y) = (x0, y + a);
-    for (kind, text) in items {
-        let item_w = 16.0 + text_width(text, 11.0) + 18.0;
-        if x > x0 && x + item_w > x0 + w {
-            x = x0;
-            y += a + d + 4.0;
-        }
-        marker(scene, kind, x + 6.0, y - 0.35 * 11.0);
-        scene.text(x + 16.0, y, 11.0, Anchor::Start, "#333", text);
-        x += item_w;
-    }
-    y + d
-}
-
-fn marker(scene: &mut Scene, kind: &str, x: f64, y: f64) {
-    let (markup, r) = match kind {
-        "wanted" => (format!(
-            "<polygon points=\"{:.1},{:.1} {:.1},{:.1} {:.1},{:.1} {:.1},{:.1}\" fill=\"#2d7d46\"/>",
-            x, y - 6.0, x + 6.0, y, x, y + 6.0, x - 6.0, y
-        ), 6.0),
-        "lost" => (format!(
-            "<polygon points=\"{:.1},{:.1} {:.1},{:.1} {:.1},{:.1} {:.1},{:.1}\" fill=\"none\" stroke=\"#2d7d46\" stroke-width=\"1.5\"/>",
-            x, y - 6.0, x + 6.0, y, x, y + 6.0, x - 6.0, y
-        ), 6.8),
-        "leak" => (circle(x, y, "#c0392b", "#7b241c"), 4.1),
-        "conj" => (circle(x, y, "#8e44ad", "#5b2c6f"), 4.1),
-        "exact0" => (format!(
-            "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"6.4\" height=\"6.4\" fill=\"none\" stroke=\"#888\"/>",
-            x - 3.2, y - 3.2
-        ), 3.7),
-        _ => (format!(
-            "<polygon points=\"{:.1},{:.1} {:.1},{:.1} {:.1},{:.1}\" fill=\"none\" stroke=\"#d68910\"/>",
-            x, y - 4.0, x + 4.0, y + 3.5, x - 4.0, y + 3.5
-        ), 4.5),
-    };
-    let bbox = BBox {
-        x0: x - r,
-        y0: y - r,
-        x1: x + r,
-        y1: y + r,
-    };
-    scene.mark(markup, bbox, true);
-}
-
-fn circle(x: f64, y: f64, fill: &str, stroke: &str) -> String {
-    format!("<circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"3.6\" fill=\"{fill}\" stroke=\"{stroke}\"/>")
-}
-
 /// One output's panel from `y` (top); returns the y below it.
 fn panel(
     scene: &mut Scene,
@@ -298,42 +221,13 @@ fn panel(
     (left, y): (f64, f64),
     plot_w: f64,
 ) -> f64 {
-    let leaks = s.leak_count();
-    let conj = s.conjugates_passing();
-    let lost = s.lost();
-    let mut head = format!(
-        "output {} — {} terms checked, {} leak{}",
-        s.name,
-        s.rejected_checked(),
-        leaks,
-        if leaks == 1 { "" } else { "s" }
-    );
-    if conj > 0 {
-        let verb = if conj == 1 {
-            "conjugate passes"
-        } else {
-            "conjugates pass"
-        };
-        head.push_str(&format!(", {conj} {verb}"));
-    }
-    if lost > 0 {
-        head.push_str(&format!(
-            ", {lost} wanted term{} lost",
-            if lost == 1 { "" } else { "s" }
-        ));
-    }
-    head.push_str(if s.exact {
-        " (exact arithmetic)"
-    } else {
-        " (within the table's precision, not exact)"
-    });
+    let head = panel_title(s);
     let mut y = lines(scene, &head, 13.0, "#222", left, y, plot_w) + 6.0;
     let off: Vec<&TermPoint> = s
         .terms
         .iter()
         .filter(|t| t.kind == TermKind::Wanted && !t.zero && !on_axis(t, axis))
         .collect();
-    let x1 = left + plot_w;
     let columns = column_x(gs, left, plot_w);
     if !off.is_empty() {
         y = off_scale_band(scene, &off, gs, &columns, (left, y), plot_w, axis.is_some());
@@ -341,23 +235,68 @@ fn panel(
     if let Some((lo, hi)) = axis {
         y = log_axis(scene, gs, &columns, (lo, hi), (left, y), plot_w);
     } else {
-        scene.rect(left, y, plot_w, 26.0, "#fcfcfa", "#bbb");
-        let (a, _) = ascent_descent(11.0);
-        scene.text(
-            left + 8.0,
-            y + 13.0 + a / 2.0 - 1.0,
-            11.0,
-            Anchor::Start,
-            "#2d7d46",
-            if s.exact {
-                "no leak: every rejected term has F = 0 exactly"
-            } else {
-                "no leak: every rejected term has F = 0 within the table's precision"
-            },
-        );
-        y += 26.0;
+        y = no_leak_line(scene, s.exact, (left, y), plot_w);
     }
-    // The zero band.
+    y = zero_band(scene, gs, &columns, (left, y), plot_w);
+    y = group_names(scene, gs, &columns, y);
+    leak_list(scene, s, (left, y), plot_w)
+}
+
+/// The panel's title: counts as `check` reports them, and how they were decided.
+fn panel_title(s: &LeakageSeries) -> String {
+    let plural = |n: usize| if n == 1 { "" } else { "s" };
+    let leaks = s.leak_count();
+    let mut head = format!(
+        "output {} — {} terms checked, {leaks} leak{}",
+        s.name,
+        s.rejected_checked(),
+        plural(leaks)
+    );
+    match s.conjugates_passing() {
+        0 => {}
+        1 => head.push_str(", 1 conjugate passes"),
+        n => head.push_str(&format!(", {n} conjugates pass")),
+    }
+    let lost = s.lost();
+    if lost > 0 {
+        head.push_str(&format!(", {lost} wanted term{} lost", plural(lost)));
+    }
+    head.push_str(if s.exact {
+        " (exact arithmetic)"
+    } else {
+        " (within the table's precision, not exact)"
+    });
+    head
+}
+
+/// The line that replaces the log axis when nothing leaks.
+fn no_leak_line(scene: &mut Scene, exact: bool, (left, y): (f64, f64), plot_w: f64) -> f64 {
+    scene.rect(left, y, plot_w, 26.0, "#fcfcfa", "#bbb");
+    let (a, _) = ascent_descent(11.0);
+    let text = if exact {
+        "no leak: every rejected term has F = 0 exactly"
+    } else {
+        "no leak: every rejected term has F = 0 within the table's precision"
+    };
+    scene.text(
+        left + 8.0,
+        y + 13.0 + a / 2.0 - 1.0,
+        11.0,
+        Anchor::Start,
+        "#2d7d46",
+        text,
+    );
+    y + 26.0
+}
+
+/// The band of terms with F = 0 (lost wanted terms too); returns the y below it.
+fn zero_band(
+    scene: &mut Scene,
+    gs: &[Group],
+    columns: &[(f64, f64)],
+    (left, y): (f64, f64),
+    plot_w: f64,
+) -> f64 {
     scene.rect(left, y, plot_w, BAND_H, "#f1f1ee", "#bbb");
     scene.text(
         left - 8.0,
@@ -367,54 +306,35 @@ fn panel(
         "#555",
         "F = 0",
     );
-    for (g, &(x, w)) in gs.iter().zip(&columns) {
+    for (g, &(x, w)) in gs.iter().zip(columns) {
         let step = (w - 16.0) / g.terms.len().max(1) as f64;
-        for (i, t) in g.terms.iter().enumerate() {
+        for (i, t) in g.terms.iter().enumerate().filter(|(_, t)| t.zero) {
             let px = x + 8.0 + step * (i as f64 + 0.5);
-            if t.zero {
-                let py = y + 10.0 + 14.0 * (i % 2) as f64;
-                let kind = match (t.kind, t.exact_zero) {
-                    (TermKind::Wanted, _) => "lost",
-                    (_, true) => "exact0",
-                    _ => "num0",
-                };
-                marker(
-                    scene,
-                    kind,
-                    px,
-                    if kind == "lost" { y + BAND_H / 2.0 } else { py },
-                );
-            }
+            let (kind, py) = match (t.kind, t.exact_zero) {
+                (TermKind::Wanted, _) => ("lost", y + BAND_H / 2.0),
+                (_, true) => ("exact0", y + 10.0 + 14.0 * (i % 2) as f64),
+                _ => ("num0", y + 10.0 + 14.0 * (i % 2) as f64),
+            };
+            marker(scene, kind, px, py);
         }
     }
     for &(x, _) in columns.iter().skip(1) {
         scene.line((x, y), (x, y + BAND_H), "#ccc", 1.0, false, false);
     }
-    y += BAND_H;
-    scene.line((left, y), (x1, y), "#bbb", 1.0, false, false);
-    // Group names and counts under the band.
+    y + BAND_H
+}
+
+/// Group names and counts under the band; returns the y below them.
+fn group_names(scene: &mut Scene, gs: &[Group], columns: &[(f64, f64)], y: f64) -> f64 {
     let (a, d) = ascent_descent(11.0);
     let (a2, d2) = ascent_descent(9.5);
-    for (g, &(x, w)) in gs.iter().zip(&columns) {
-        scene.text(
-            x + w / 2.0,
-            y + 4.0 + a,
-            11.0,
-            Anchor::Middle,
-            "#222",
-            &g.label,
-        );
-        scene.text(
-            x + w / 2.0,
-            y + 4.0 + a + d + 1.0 + a2,
-            9.5,
-            Anchor::Middle,
-            "#666",
-            &g.note,
-        );
+    for (g, &(x, w)) in gs.iter().zip(columns) {
+        let xm = x + w / 2.0;
+        scene.text(xm, y + 4.0 + a, 11.0, Anchor::Middle, "#222", &g.label);
+        let y2 = y + 4.0 + a + d + 1.0 + a2;
+        scene.text(xm, y2, 9.5, Anchor::Middle, "#666", &g.note);
     }
-    y += 4.0 + a + d + 1.0 + a2 + d2 + 6.0;
-    leak_list(scene, s, (left, y), plot_w)
+    y + 4.0 + a + d + 1.0 + a2 + d2 + 6.0
 }
 
 /// Left edge and width of every group's column.

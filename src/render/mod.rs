@@ -9,6 +9,7 @@ pub mod diagram_svg;
 pub mod diagram_text;
 pub mod fonts;
 pub mod leakage;
+pub mod leakage_marks;
 pub mod leakage_svg;
 pub mod origin;
 #[cfg(feature = "png")]

@@ -103,91 +103,11 @@ fn wheel(
         if visits.len() == 1 { "" } else { "s" },
         grid.map_or(String::new(), |g| format!(", grid {g}"))
     );
-    let (a, d) = ascent_descent(13.0);
-    let mut y = y0 + 6.0;
-    let lines = wrap(&head, 13.0, CELL_W - 24.0);
-    for (i, l) in lines.iter().take(HEAD_LINES).enumerate() {
-        let more = if i + 1 == HEAD_LINES && lines.len() > HEAD_LINES {
-            "…"
-        } else {
-            ""
-        };
-        let text = format!("{l}{more}");
-        scene.text(
-            x0 + CELL_W / 2.0,
-            y + a,
-            13.0,
-            Anchor::Middle,
-            "#222",
-            &text,
-        );
-        y += a + d + 1.0;
-    }
-    let head_h = HEAD_LINES as f64 * (a + d + 1.0);
-    let (cx, cy) = (x0 + CELL_W / 2.0, y0 + 6.0 + head_h + 40.0 + R);
-    scene.mark(
-        format!(
-            "<circle cx=\"{cx:.1}\" cy=\"{cy:.1}\" r=\"{R:.1}\" fill=\"#fbfbf8\" stroke=\"none\"/>"
-        ),
-        BBox {
-            x0: cx - R,
-            y0: cy - R,
-            x1: cx + R,
-            y1: cy + R,
-        },
-        false,
-    );
-    scene.line(
-        (cx - R - 6.0, cy),
-        (cx + R + 6.0, cy),
-        "#ddd",
-        1.0,
-        true,
-        false,
-    );
-    scene.line(
-        (cx, cy - R - 6.0),
-        (cx, cy + R + 6.0),
-        "#ddd",
-        1.0,
-        true,
-        false,
-    );
-    let at = |turns: f64, r: f64| {
-        let a = std::f64::consts::TAU * turns;
-        (cx + a.cos() * r, cy - a.sin() * r)
-    };
-    for k in 0..RING_SIDES {
-        let t = |k: usize| k as f64 / RING_SIDES as f64;
-        scene.line(at(t(k), R), at(t(k + 1), R), "#555", 1.0, false, true);
-    }
-    if let Some(g) = grid.filter(|&g| (2..=72).contains(&g)) {
-        for k in 0..g {
-            let t = f64::from(k) / f64::from(g);
-            scene.line(at(t, R - 5.0), at(t, R + 5.0), "#999", 1.0, false, false);
-        }
-    }
-    let max_count = visits.iter().map(|v| v.1).max().unwrap_or(1) as f64;
-    // Shrink dots on crowded wheels so neighbours do not touch.
-    let spacing = std::f64::consts::TAU * R / visits.len().max(1) as f64;
-    let mut dots = Vec::new();
-    for (p, count) in &visits {
-        let r_dot = (4.0 + 4.0 * (*count as f64 / max_count).sqrt()).min(spacing / 2.6);
-        let (px, py) = at(p.turns_f64(), R);
-        scene.line((cx, cy), (px, py), "#c9d6e8", 1.0, false, false);
-        dots.push(BBox {
-            x0: px - r_dot,
-            y0: py - r_dot,
-            x1: px + r_dot,
-            y1: py + r_dot,
-        });
-        scene.mark(
-            format!("<circle cx=\"{px:.1}\" cy=\"{py:.1}\" r=\"{r_dot:.1}\" fill=\"#1f5fa8\" stroke=\"#12396a\"/>"),
-            dots[dots.len() - 1],
-            true,
-        );
-    }
-    let ring = ring_labels(&visits, (cx, cy));
+    let head_h = heading(scene, &head, (x0 + CELL_W / 2.0, y0 + 6.0));
+    let centre = (x0 + CELL_W / 2.0, y0 + 6.0 + head_h + 40.0 + R);
+    frame(scene, centre, grid);
+    let dots = dots(scene, &visits, centre);
+    let ring = ring_labels(&visits, centre);
     let cell = BBox {
         x0,
         y0,
@@ -209,28 +129,134 @@ fn wheel(
         for l in ring {
             scene.push_label(l);
         }
-        return;
+    } else {
+        phase_list(scene, &visits, (centre.0, centre.1 + R + 24.0));
     }
+}
+
+/// The wheel's heading, centred at `x` from `y` down, at most [`HEAD_LINES`] lines; returns
+/// the height reserved for it (the same for every wheel, so the wheels line up).
+fn heading(scene: &mut Scene, head: &str, (x, y): (f64, f64)) -> f64 {
+    let (a, d) = ascent_descent(13.0);
+    let lines = wrap(head, 13.0, CELL_W - 24.0);
+    let mut y = y;
+    for (i, l) in lines.iter().take(HEAD_LINES).enumerate() {
+        let more = if i + 1 == HEAD_LINES && lines.len() > HEAD_LINES {
+            "…"
+        } else {
+            ""
+        };
+        scene.text(
+            x,
+            y + a,
+            13.0,
+            Anchor::Middle,
+            "#222",
+            &format!("{l}{more}"),
+        );
+        y += a + d + 1.0;
+    }
+    HEAD_LINES as f64 * (a + d + 1.0)
+}
+
+/// The point at `turns` on a circle of radius `r` about `(cx, cy)`, counter-clockwise from 3
+/// o'clock.
+fn at((cx, cy): (f64, f64), turns: f64, r: f64) -> (f64, f64) {
+    let a = std::f64::consts::TAU * turns;
+    (cx + a.cos() * r, cy - a.sin() * r)
+}
+
+/// The disc, its axes, the ring (as the sides the overlap check sees) and the grid ticks.
+fn frame(scene: &mut Scene, c: (f64, f64), grid: Option<u32>) {
+    let (cx, cy) = c;
+    scene.mark(
+        format!(
+            "<circle cx=\"{cx:.1}\" cy=\"{cy:.1}\" r=\"{R:.1}\" fill=\"#fbfbf8\" stroke=\"none\"/>"
+        ),
+        BBox {
+            x0: cx - R,
+            y0: cy - R,
+            x1: cx + R,
+            y1: cy + R,
+        },
+        false,
+    );
+    let (l, r, t, b) = (
+        (cx - R - 6.0, cy),
+        (cx + R + 6.0, cy),
+        (cx, cy - R - 6.0),
+        (cx, cy + R + 6.0),
+    );
+    scene.line(l, r, "#ddd", 1.0, true, false);
+    scene.line(t, b, "#ddd", 1.0, true, false);
+    let side = |k: usize| k as f64 / RING_SIDES as f64;
+    for k in 0..RING_SIDES {
+        scene.line(
+            at(c, side(k), R),
+            at(c, side(k + 1), R),
+            "#555",
+            1.0,
+            false,
+            true,
+        );
+    }
+    if let Some(g) = grid.filter(|&g| (2..=72).contains(&g)) {
+        for k in 0..g {
+            let t = f64::from(k) / f64::from(g);
+            scene.line(
+                at(c, t, R - 5.0),
+                at(c, t, R + 5.0),
+                "#999",
+                1.0,
+                false,
+                false,
+            );
+        }
+    }
+}
+
+/// A spoke and a dot per visited phase (area grows with its step count); returns the dots'
+/// boxes.
+fn dots(scene: &mut Scene, visits: &[(Phase, usize)], c: (f64, f64)) -> Vec<BBox> {
+    let max_count = visits.iter().map(|v| v.1).max().unwrap_or(1) as f64;
+    // Shrink dots on crowded wheels so neighbours do not touch.
+    let spacing = std::f64::consts::TAU * R / visits.len().max(1) as f64;
+    let mut out = Vec::new();
+    for (p, count) in visits {
+        let r_dot = (4.0 + 4.0 * (*count as f64 / max_count).sqrt()).min(spacing / 2.6);
+        let (px, py) = at(c, p.turns_f64(), R);
+        scene.line(c, (px, py), "#c9d6e8", 1.0, false, false);
+        let b = BBox {
+            x0: px - r_dot,
+            y0: py - r_dot,
+            x1: px + r_dot,
+            y1: py + r_dot,
+        };
+        out.push(b);
+        scene.mark(
+            format!("<circle cx=\"{px:.1}\" cy=\"{py:.1}\" r=\"{r_dot:.1}\" fill=\"#1f5fa8\" stroke=\"#12396a\"/>"),
+            b,
+            true,
+        );
+    }
+    out
+}
+
+/// The phases in turns, wrapped under the wheel (at most three lines).
+fn phase_list(scene: &mut Scene, visits: &[(Phase, usize)], (x, y): (f64, f64)) {
     let mut list: Vec<String> = vec!["turns:".into()];
     list.extend(visits.iter().map(|(p, _)| format_phase(p)));
     let (a, d) = ascent_descent(9.5);
-    let mut y = cy + R + 24.0;
     let lines = wrap(&list.join("  "), 9.5, CELL_W - 16.0);
     let shown = lines.len().min(3);
+    let mut y = y;
     for (i, l) in lines.iter().take(shown).enumerate() {
         let more = if i + 1 == shown && lines.len() > shown {
             " …"
         } else {
             ""
         };
-        scene.text(
-            cx,
-            y + a,
-            9.5,
-            Anchor::Middle,
-            "#333",
-            &format!("{l}{more}"),
-        );
+        scene.text(x, y + a, 9.5, Anchor::Middle, "#333", &format!("{l}{more}"));
         y += a + d + 1.0;
     }
 }
