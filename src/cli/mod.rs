@@ -10,6 +10,7 @@ mod draw_spectrum_cmd;
 mod export_cmd;
 mod output;
 mod pathways_cmd;
+mod picture_out;
 pub mod signals;
 mod simulate_cmd;
 mod simulate_files;
