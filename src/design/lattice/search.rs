@@ -106,6 +106,9 @@ pub enum SearchOutcome {
         lattices_tested: u64,
         /// True if the search was stopped before reaching `max_steps`.
         cancelled: bool,
+        /// Steps of a valid nested cycle above `max_steps` (the greedy nested seed without the
+        /// cap), so a refusal can say what raising the cap gives.
+        valid_above: Option<u64>,
     },
     /// A rejected (or other output's kept) signature equals `t_o` modulo the grid:
     /// no cycle on this grid separates them.
@@ -220,6 +223,7 @@ fn run(
                 excluded_below: lo,
                 lattices_tested: tested,
                 cancelled: true,
+                valid_above: valid_above(&engine, ctl.cancel),
             },
         };
         if ctl.cancel.load(std::sync::atomic::Ordering::Relaxed) {
@@ -258,6 +262,7 @@ fn run(
             excluded_below: cap,
             lattices_tested: tested,
             cancelled: false,
+            valid_above: valid_above(&engine, ctl.cancel),
         },
         vec![],
     ))
@@ -303,6 +308,12 @@ fn scan(
     found.truncate(limit);
     let cancelled = cancel.load(std::sync::atomic::Ordering::Relaxed);
     (found, tested, cancelled)
+}
+
+/// The steps of the greedy nested cycle with no step cap (up to the absolute limit of
+/// 1e7), when the capped search found nothing.
+fn valid_above(engine: &Engine, cancel: &AtomicBool) -> Option<u64> {
+    nested_seed(engine, 10_000_000, cancel).map(|(l, _)| l.index())
 }
 
 /// Up-front impossibility checks: identical signatures and grid aliasing.

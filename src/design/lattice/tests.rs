@@ -515,3 +515,25 @@ fn anytime_reports_bound_the_final_design() {
         }
     }
 }
+
+/// A search capped below every lattice design says what a higher cap gives: the steps of a
+/// valid nested cycle above the cap (checked valid here by building it from the number).
+#[test]
+fn a_capped_search_names_a_valid_design_above_the_cap() {
+    let mut p = ball_problem(3, 4, vec![-1, 1, 1]);
+    let full = run(&p);
+    p.max_steps = full.steps - 1;
+    let cancel = AtomicBool::new(false);
+    match search(&p, &SearchControl::new(&cancel)).unwrap() {
+        SearchOutcome::NotFound {
+            valid_above: Some(n),
+            cancelled: false,
+            ..
+        } => {
+            assert!(n >= full.steps);
+            p.max_steps = n;
+            assert!(run(&p).steps <= n);
+        }
+        other => panic!("{other:?}"),
+    }
+}
