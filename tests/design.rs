@@ -305,7 +305,10 @@ fn with_no_lattice_design_within_the_limits_the_designer_tries_weighted_step_set
     }
     let mut report = DesignReport::new(&sel, &prep);
     report.refusal = Some(Refusal::NoLatticeDesign {
-        remedy: pathsieve::design::LimitRemedy::MaxSteps { current: 3 },
+        remedy: pathsieve::design::LimitRemedy::MaxSteps {
+            current: 3,
+            known_valid: None,
+        },
     });
     let cycle = weighted_without_lattice(&sel, &prep, &opts, &ctl, &mut report).expect("a design");
     assert_eq!(cycle.steps.len(), 2);

@@ -161,7 +161,7 @@ pub fn run(a: CheckArgs) -> anyhow::Result<u8> {
 }
 
 /// The `--background KEY=SIZE` options as size rules.
-fn background_args(args: &[String], exp: &Experiment) -> anyhow::Result<Backgrounds> {
+pub(super) fn background_args(args: &[String], exp: &Experiment) -> anyhow::Result<Backgrounds> {
     let mut out = Backgrounds::default();
     for a in args {
         let Some((k, v)) = a.rsplit_once('=') else {

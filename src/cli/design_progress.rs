@@ -27,8 +27,12 @@ fn text(p: Option<Progress>) -> String {
         Some(Progress {
             best: Some(b),
             index,
+            share_done,
             ..
-        }) => format!("best {b} steps, none below {index} proven (Ctrl-C: stop with the best)"),
+        }) => {
+            let share = share_done.map_or(String::new(), |s| format!(", ~{:.0} %", 100.0 * s));
+            format!("best {b} steps, none below {index} proven{share} (Ctrl-C: stop with the best)")
+        }
         Some(Progress { index, .. }) => {
             format!("no design yet, none below {index} steps proven (Ctrl-C: stop)")
         }
@@ -44,6 +48,7 @@ fn json_line(p: Option<Progress>, elapsed: f64) -> String {
         "best_steps": p.and_then(|p| p.best),
         "none_below": p.map(|p| p.index),
         "lattices_tested": p.map(|p| p.lattices_tested),
+        "share_done": p.and_then(|p| p.share_done).map(|s| (s * 1000.0).round() / 1000.0),
     })
     .to_string()
 }

@@ -1,9 +1,11 @@
-//! `pathsieve draw`: SVG pictures — a sheet of double-sided diagrams for one signature or
-//! class, the leakage chart of a cycle, and the phase wheels of a cycle. Files are written with
-//! `safe_write` (no overwrite without --force, never half-written).
+//! `pathsieve draw`: SVG pictures — a sheet of double-sided diagrams (NMR: coherence-transfer
+//! pathway diagrams) for one signature or class, the leakage chart of a cycle, and the phase
+//! wheels of a cycle — each with an optional PNG beside it (`--png`, [`super::picture_out`]).
+//! Files are written with `safe_write` (no overwrite without --force, never half-written).
 
 use super::output::RejectionArgs;
 use super::pathways_cmd::Selector;
+use super::picture_out::{write_picture, PngArgs};
 use anyhow::{bail, Context};
 use clap::{Args, Subcommand};
 use pathsieve::check::SnapPolicy;
@@ -12,7 +14,7 @@ use pathsieve::experiment_file::read_experiment;
 use pathsieve::limits::MAX_LISTED_PATHWAYS;
 use pathsieve::pathways::{for_each_row, Pathway, Scope};
 use pathsieve::render::{diagram_svg, leakage, leakage_svg, wheels_svg};
-use pathsieve::safe_write::{check_targets, write_atomic};
+use pathsieve::safe_write::check_targets;
 use pathsieve::selection::Selection;
 use std::path::PathBuf;
 
@@ -49,6 +51,8 @@ enum Picture {
         /// Overwrite an existing file.
         #[arg(long)]
         force: bool,
+        #[command(flatten)]
+        png: PngArgs,
     },
     /// |F| of every rejected term on a log axis, grouped by order, wanted terms marked.
     Leakage {
@@ -64,7 +68,11 @@ enum Picture {
         /// Overwrite an existing file.
         #[arg(long)]
         force: bool,
+        #[command(flatten)]
+        png: PngArgs,
     },
+    /// The 2D spectrum of one output of a `pathsieve simulate` run.
+    Spectrum(super::draw_spectrum_cmd::SpectrumArgs),
     /// One phase wheel per field, with the phases it visits.
     Wheels {
         /// Cycle table (TOML or CSV).
@@ -75,6 +83,8 @@ enum Picture {
         /// Overwrite an existing file.
         #[arg(long)]
         force: bool,
+        #[command(flatten)]
+        png: PngArgs,
     },
 }
 
@@ -88,8 +98,10 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
             conjugates,
             out,
             force,
+            png,
         } => {
-            check_targets(&[&out], &[&experiment], force)?;
+            let targets = png.targets(&out)?;
+            check_targets(&paths(&targets), &[&experiment], force)?;
             let exp = read_experiment(&experiment)?;
             let spec = match (&signature, &class) {
                 (Some(s), None) => s.clone(),
@@ -125,12 +137,9 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
                 rows.len(),
                 if rows.len() == 1 { "" } else { "s" }
             );
-            write_atomic(
-                &out,
-                diagram_svg::diagrams_svg(&exp, &rows, &title).as_bytes(),
-                force,
-            )?;
-            eprintln!("wrote {} diagrams to {}", rows.len(), out.display());
+            let svg = diagram_svg::diagrams_svg(&exp, &rows, &title);
+            let what = format!("{} diagrams", rows.len());
+            write_picture(&targets, &svg, &png, force, &what)?;
         }
         Picture::Leakage {
             experiment,
@@ -138,8 +147,10 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
             rejection,
             out,
             force,
+            png,
         } => {
-            check_targets(&[&out], &[&experiment, &cycle], force)?;
+            let targets = png.targets(&out)?;
+            check_targets(&paths(&targets), &[&experiment, &cycle], force)?;
             let exp = read_experiment(&experiment)?;
             let c = read_cycle(&cycle, None)?;
             let sel = Selection::new(&exp, &rejection.request())?;
@@ -151,11 +162,18 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
                         experiment.display()
                     )
                 })?;
-            write_atomic(&out, leakage_svg::leakage_svg(&chart).as_bytes(), force)?;
-            eprintln!("wrote the leakage chart to {}", out.display());
+            let svg = leakage_svg::leakage_svg(&chart);
+            write_picture(&targets, &svg, &png, force, "the leakage chart")?;
         }
-        Picture::Wheels { cycle, out, force } => {
-            check_targets(&[&out], &[&cycle], force)?;
+        Picture::Spectrum(s) => return super::draw_spectrum_cmd::run(s),
+        Picture::Wheels {
+            cycle,
+            out,
+            force,
+            png,
+        } => {
+            let targets = png.targets(&out)?;
+            check_targets(&paths(&targets), &[&cycle], force)?;
             let c = read_cycle(&cycle, None)?;
             let title = format!(
                 "{} — {} steps",
@@ -165,9 +183,14 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
                     .unwrap_or_else(|| cycle.display().to_string()),
                 c.len()
             );
-            write_atomic(&out, wheels_svg::wheels_svg(&c, &title).as_bytes(), force)?;
-            eprintln!("wrote the phase wheels to {}", out.display());
+            let svg = wheels_svg::wheels_svg(&c, &title);
+            write_picture(&targets, &svg, &png, force, "the phase wheels")?;
         }
     }
     Ok(0)
+}
+
+/// The targets as borrowed paths for `check_targets`.
+fn paths(targets: &[PathBuf]) -> Vec<&std::path::Path> {
+    targets.iter().map(PathBuf::as_path).collect()
 }

@@ -7,12 +7,17 @@ mod completions_cmd;
 mod design_cmd;
 mod design_progress;
 mod draw_cmd;
+mod draw_spectrum_cmd;
 mod export_cmd;
 mod export_files;
 mod help;
 mod output;
 mod pathways_cmd;
+mod picture_out;
 pub mod signals;
+mod simulate_cmd;
+mod simulate_files;
+mod simulate_summary;
 mod stdio;
 
 use clap::{Parser, Subcommand};
@@ -61,6 +66,9 @@ enum Command {
     /// Print the manual page (roff) of pathsieve or one of its commands to stdout.
     #[command(after_help = help::MAN)]
     Man(completions_cmd::ManArgs),
+    /// Simulate per-step data of a cycle (backgrounds, phase errors, noise), combine it, and
+    /// write time-domain data, 2D spectra and pictures of the ideal and as-measured outputs.
+    Simulate(simulate_cmd::SimulateArgs),
 }
 
 /// Run the parsed command; returns the exit code.
@@ -75,6 +83,7 @@ pub fn run(cli: Cli) -> anyhow::Result<u8> {
         Command::Draw(a) => draw_cmd::run(a),
         Command::Completions(a) => completions_cmd::run_completions(a),
         Command::Man(a) => completions_cmd::run_man(a),
+        Command::Simulate(a) => simulate_cmd::run(a),
     }
 }
 

@@ -178,13 +178,21 @@ fn refuse(
                 excluded_below,
                 lattices_tested,
                 cancelled,
+                ..
             } => Some((*excluded_below, *lattices_tested, *cancelled)),
             _ => None,
         })
         .fold((0, 0, false), |a, b| (a.0.max(b.0), a.1 + b.1, a.2 || b.2));
+    let known_valid = tried
+        .iter()
+        .filter_map(|((o, _), _, _)| match o {
+            SearchOutcome::NotFound { valid_above, .. } => *valid_above,
+            _ => None,
+        })
+        .min();
     LatticeStage::Refused {
         refusal: Refusal::NoLatticeDesign {
-            remedy: limit_remedy(prep.problem.dims, opts),
+            remedy: limit_remedy(prep.problem.dims, opts, known_valid),
         },
         causes: Vec::new(),
         excluded_below,
@@ -210,10 +218,11 @@ fn original_name(split: &str) -> String {
 /// What can lift "no lattice design": a phase cap `c` bounds every lattice design to
 /// `c ^ dims` steps (its dual group embeds in the product of the per-field cyclic groups), so
 /// when those were all tested only a higher phase cap helps.
-pub fn limit_remedy(dims: usize, opts: &DesignOptions) -> LimitRemedy {
+pub fn limit_remedy(dims: usize, opts: &DesignOptions, known_valid: Option<u64>) -> LimitRemedy {
     match opts.max_phases_per_field {
         None => LimitRemedy::MaxSteps {
             current: opts.max_steps,
+            known_valid,
         },
         Some(c) => {
             let bound = u64::from(c).checked_pow(dims as u32).unwrap_or(u64::MAX);

@@ -35,6 +35,8 @@ pub enum LimitRemedy {
     MaxSteps {
         /// The current cap.
         current: u64,
+        /// Steps of a valid nested cycle found above the cap, if any.
+        known_valid: Option<u64>,
     },
     /// Raise `--max-phases`: with this cap every lattice design has at most `bound` steps,
     /// all of which were tested, so more steps cannot help.

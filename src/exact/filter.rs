@@ -18,6 +18,7 @@ use num_traits::{One, ToPrimitive, Zero};
 
 use super::cyclo::Cyclo;
 use super::cyclotomic::euler_phi;
+use super::group_table::GroupTable;
 use super::tensor::{TensorBasis, MAX_ABS_SUM};
 use super::turns::{common_denominator, reduce_turn, Turns};
 use super::{check_order, lcm_order, ExactError};
@@ -47,6 +48,9 @@ pub struct ExactFilter {
     /// The product basis of `Q(zeta_order)` for zero tests and Gaussian readings.
     basis: std::sync::Arc<TensorBasis>,
     weights_f: Vec<Complex64>,
+    /// The proven group structure of the table, when it has one, and the common weight
+    /// multiplier: every value is then decided without summing over the steps.
+    group: Option<(GroupTable, i128)>,
 }
 
 /// A filter value as a report shows it.
@@ -132,6 +136,7 @@ impl ExactFilter {
             Some(m) => m,
             None => general_form(&lifted)?,
         };
+        let group = group_structure(order, fields, &phase_num, &weights);
         Ok(ExactFilter {
             order,
             fields,
@@ -140,6 +145,7 @@ impl ExactFilter {
             den,
             basis,
             weights_f,
+            group,
         })
     }
 
@@ -193,6 +199,12 @@ impl ExactFilter {
         let l = self.order as usize;
         acc.clear();
         acc.resize(l, 0);
+        if let Some((g, mult)) = &self.group {
+            if g.passes(b) {
+                acc[g.offset] = mult * self.steps() as i128;
+            }
+            return;
+        }
         match &self.weights {
             Weights::Monomial(w) => {
                 for (m, &(shift, mult)) in w.iter().enumerate() {
@@ -214,6 +226,9 @@ impl ExactFilter {
     /// Exact test `F(b) == 0`, using the caller's buffer (no allocation once it has grown).
     pub fn is_zero_with(&self, b: &[i64], scratch: &mut Scratch) -> Result<bool, ExactError> {
         self.check_len(b)?;
+        if let Some((g, _)) = &self.group {
+            return Ok(!g.passes(b));
+        }
         self.accumulate(b, &mut scratch.acc);
         if scratch.acc.iter().all(|c| *c == 0) {
             return Ok(true);
@@ -313,6 +328,17 @@ impl ExactFilter {
     pub fn approx(&self, b: &[i64]) -> Result<Complex64, ExactError> {
         self.check_len(b)?;
         let l = self.order as f64;
+        if let Some((g, mult)) = &self.group {
+            if !g.passes(b) {
+                return Ok(Complex64::new(0.0, 0.0));
+            }
+            let modulus =
+                (*mult as f64 / self.den.to_f64().unwrap_or(f64::NAN)) * self.steps() as f64;
+            return Ok(Complex64::from_polar(
+                modulus,
+                std::f64::consts::TAU * g.offset as f64 / l,
+            ));
+        }
         let mut s = Complex64::new(0.0, 0.0);
         for (m, w) in self.weights_f.iter().enumerate() {
             let e = self.exponent(m, b) as f64;
@@ -392,6 +418,37 @@ fn monomial_form(lifted: &[Cyclo], order: u32, basis: &TensorBasis) -> Option<(W
     }
     check_total(out.iter().map(|(_, c)| c)).ok()?;
     Some((Weights::Monomial(out), den))
+}
+
+/// The table's group structure ([`GroupTable`]) when its weights are one positive rational
+/// times roots of unity: proven on the table, never assumed.
+fn group_structure(
+    order: u32,
+    fields: usize,
+    phase_num: &[i64],
+    weights: &Weights,
+) -> Option<(GroupTable, i128)> {
+    let Weights::Monomial(w) = weights else {
+        return None;
+    };
+    // One modulus c for every weight; a negative multiplier is zeta^(L/2) (even L only).
+    let mult = w.first()?.1.abs();
+    let half = (order % 2 == 0).then_some(order as usize / 2);
+    if mult == 0 || fields == 0 || w.iter().any(|&(_, m)| m.abs() != mult) {
+        return None;
+    }
+    let shifts: Vec<usize> = w
+        .iter()
+        .map(|&(s, m)| {
+            if m > 0 {
+                Some(s)
+            } else {
+                half.map(|h| (s + h) % order as usize)
+            }
+        })
+        .collect::<Option<_>>()?;
+    let rows: Vec<&[i64]> = phase_num.chunks(fields).collect();
+    GroupTable::detect(order, &rows, &shifts).map(|g| (g, mult))
 }
 
 fn general_form(lifted: &[Cyclo]) -> Result<(Weights, BigInt), ExactError> {

@@ -30,6 +30,7 @@ mod binomial_reduce;
 pub mod cyclo;
 pub mod cyclotomic;
 pub mod filter;
+pub mod group_table;
 pub mod parse;
 pub mod polar;
 pub mod snap;

@@ -140,6 +140,14 @@ impl Backgrounds {
 
     /// The size of term `b` in `exp`: the most specific matching rule, else 1.
     pub fn size_of(&self, exp: &Experiment, b: &Signature) -> BackgroundSize {
+        self.matching(exp, b).unwrap_or(BackgroundSize {
+            size: 1.0,
+            rule: "none given (size 1)".into(),
+        })
+    }
+
+    /// The size the most specific rule matching `b` gives, `None` when no rule matches.
+    pub fn matching(&self, exp: &Experiment, b: &Signature) -> Option<BackgroundSize> {
         let class = BackgroundClass::of(exp, b);
         let order = exp.term_order(b);
         self.rules
@@ -151,16 +159,10 @@ impl Backgrounds {
                 BackgroundKey::Default => true,
             })
             .min_by_key(|r| r.key.rank())
-            .map_or(
-                BackgroundSize {
-                    size: 1.0,
-                    rule: "none given (size 1)".into(),
-                },
-                |r| BackgroundSize {
-                    size: r.size,
-                    rule: r.key.text(),
-                },
-            )
+            .map(|r| BackgroundSize {
+                size: r.size,
+                rule: r.key.text(),
+            })
     }
 }
 

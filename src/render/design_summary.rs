@@ -250,7 +250,13 @@ fn refusal_text(r: &DesignReport, refusal: &Refusal) -> String {
 
 fn remedy_text(m: &LimitRemedy) -> String {
     match m {
-        LimitRemedy::MaxSteps { current } => format!("raise --max-steps above {current}"),
+        LimitRemedy::MaxSteps {
+            current,
+            known_valid: Some(k),
+        } => format!(
+            "raise --max-steps above {current} (a valid nested cycle of {k} steps exists: --max-steps {k} gives a design at once)"
+        ),
+        LimitRemedy::MaxSteps { current, .. } => format!("raise --max-steps above {current}"),
         LimitRemedy::MaxPhases { current, bound } => format!("raise --max-phases above {current} (with {current} phases per field no lattice design has more than {bound} steps, and all were tested; more steps cannot help)"),
         LimitRemedy::Either { max_steps, max_phases } => format!("raise --max-steps above {max_steps} or --max-phases above {max_phases}"),
     }

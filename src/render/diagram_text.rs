@@ -19,30 +19,52 @@ pub fn diagram_text(exp: &Experiment, p: &Pathway) -> String {
         return format!("  coherence orders: {}\n", orders.join(" → "));
     }
     let ground = exp.levels.as_ref().map(|l| l.ground).unwrap_or(0);
-    rows.push(format!(
-        "      {:^12}",
-        element_label(
-            exp,
-            &crate::pathways::Element {
-                ket: ground,
-                bra: ground
-            }
-        )
-    ));
+    // Ket-side labels are right-aligned against the ket line, as wide as the widest one, so
+    // the two lines stay straight for long field names too.
+    let label = |inter: &crate::pathways::Interaction| {
+        let sign = if inter.phase_sign() > 0 { "+" } else { "-" };
+        format!("{sign}k{}", exp.fields[inter.field].name)
+    };
+    let ket_w = p
+        .interactions
+        .iter()
+        .filter(|i| i.side == Side::Ket)
+        .map(|i| label(i).chars().count())
+        .max()
+        .unwrap_or(0)
+        .max(5);
+    // The two lines as far apart as the widest element label needs.
+    let start = crate::pathways::Element {
+        ket: ground,
+        bra: ground,
+    };
+    let inner = std::iter::once(&start)
+        .chain(&p.elements)
+        .map(|e| element_label(exp, e).chars().count() + 2)
+        .max()
+        .unwrap_or(0)
+        .max(10);
+    let indent = " ".repeat(ket_w + 1);
+    let lines = format!("|{}|", " ".repeat(inner));
+    let cell = inner + 2;
+    let between = |e: &crate::pathways::Element| {
+        format!("{indent}{:^cell$}", element_label(exp, e))
+            .trim_end()
+            .to_string()
+    };
+    rows.push(between(&start));
     for (i, inter) in p.interactions.iter().enumerate() {
         let arrow = if arrow_heading(inter) > 0 {
             "↗"
         } else {
             "↖"
         };
-        let name = &exp.fields[inter.field].name;
-        let sign = if inter.phase_sign() > 0 { "+" } else { "-" };
         let row = match inter.side {
-            Side::Ket => format!("{sign}k{name:<3}{arrow}|          |"),
-            Side::Bra => format!("      |          |{arrow}{sign}k{name}"),
+            Side::Ket => format!("{:>ket_w$}{arrow}{lines}", label(inter)),
+            Side::Bra => format!("{indent}{lines}{arrow}{}", label(inter)),
         };
         rows.push(row);
-        rows.push(format!("      {:^12}", element_label(exp, &p.elements[i])));
+        rows.push(between(&p.elements[i]));
     }
     let mut out = String::new();
     for r in rows.iter().rev() {
@@ -79,7 +101,7 @@ mod tests {
     fn text_and_svg_arrows_point_the_same_way() {
         // The rephasing ESA pathway of the g-e-f ladder: bra up (pulse 1), ket up (2), ket up
         // (3). Text: one row per interaction, latest on top, the glyph beside its line; SVG:
-        // one arrow per interaction, its head (the polygon's first point) at the end.
+        // one arrow per interaction in the laid-out scene, its head at the segment's end.
         let text = "order = 3\n[detection]\nmode = \"emission\"\n[[field]]\nname = \"1\"\n[[field]]\nname = \"2\"\n[[field]]\nname = \"3\"\n[[field]]\nname = \"LO\"\nkind = \"lo\"\n[levels]\nstates = [{ name = \"g\", manifold = 0 }, { name = \"e\", manifold = 1 }, { name = \"f\", manifold = 2 }]\n";
         let e = parse_experiment(text, "t.toml".as_ref()).unwrap();
         let mut all = Vec::new();
@@ -98,43 +120,21 @@ mod tests {
                     }
                 })
                 .collect();
-            let svg = crate::render::diagram_svg::diagrams_svg(&e, std::slice::from_ref(&p), "t");
-            // Each arrow is its shaft (a line) followed by its head (a polygon).
-            let mut shaft = "";
-            let mut arrows = Vec::new();
-            for l in svg.lines() {
-                if l.starts_with("<line") {
-                    shaft = l;
-                } else if l.starts_with("<polygon") {
-                    arrows.push((l, shaft));
-                }
-            }
-            let heads: Vec<i64> = arrows
-                .into_iter()
+            let scene =
+                crate::render::diagram_svg::diagrams_scene(&e, std::slice::from_ref(&p), "t");
+            // The interaction arrows are the first segments with a head, in time order.
+            let heads: Vec<i64> = scene
+                .segments
+                .iter()
+                .filter(|s| s.head)
                 .take(p.interactions.len())
-                .map(|(poly, line)| {
-                    let num = |l: &str, key: &str| -> f64 {
-                        let rest = &l[l.find(key).unwrap() + key.len()..];
-                        rest[..rest.find('"').unwrap()].parse().unwrap()
-                    };
-                    let tip: f64 = poly
-                        .split('"')
-                        .nth(1)
-                        .unwrap()
-                        .split(',')
-                        .next()
-                        .unwrap()
-                        .parse()
-                        .unwrap();
-                    let (x1, x2) = (num(line, "x1=\""), num(line, "x2=\""));
-                    assert!(
-                        num(line, "y2=\"") < num(line, "y1=\""),
-                        "forward in time: {line}"
-                    );
-                    assert!((tip - x2).abs() < 0.06, "head at the end: {poly}");
-                    (x2 - x1).signum() as i64
+                .map(|s| {
+                    assert!(s.y2 < s.y1, "forward in time: {s:?}");
+                    (s.x2 - s.x1).signum() as i64
                 })
                 .collect();
+            let svg = scene.to_svg();
+            assert_eq!(svg.matches("<polygon").count(), p.interactions.len() + 1);
             let expected: Vec<i64> = p.interactions.iter().map(arrow_heading).collect();
             assert_eq!(glyphs, expected, "text {:?}", p.interactions);
             assert_eq!(heads, expected, "svg {:?}", p.interactions);

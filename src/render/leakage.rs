@@ -47,6 +47,42 @@ pub struct LeakageSeries {
     pub terms: Vec<TermPoint>,
 }
 
+impl LeakageSeries {
+    /// Terms of the rejection set (conjugates of wanted terms included), as `check` reports
+    /// `rejected_checked`.
+    pub fn rejected_checked(&self) -> usize {
+        self.terms
+            .iter()
+            .filter(|t| t.kind != TermKind::Wanted)
+            .count()
+    }
+
+    /// Rejected terms (conjugates excluded) with F(b) != 0, as `check` counts `leak_count`:
+    /// the same rejection set and the same exact (or precision-bounded) zero test.
+    pub fn leak_count(&self) -> usize {
+        self.terms
+            .iter()
+            .filter(|t| t.kind == TermKind::Rejected && !t.zero)
+            .count()
+    }
+
+    /// Conjugates of wanted terms that the cycle lets through.
+    pub fn conjugates_passing(&self) -> usize {
+        self.terms
+            .iter()
+            .filter(|t| t.kind == TermKind::Conjugate && !t.zero)
+            .count()
+    }
+
+    /// Wanted terms with F(t) = 0 (the output loses them).
+    pub fn lost(&self) -> usize {
+        self.terms
+            .iter()
+            .filter(|t| t.kind == TermKind::Wanted && t.zero)
+            .count()
+    }
+}
+
 /// The chart's data.
 #[derive(Clone, Debug, PartialEq)]
 pub struct LeakageChart {

@@ -3,15 +3,18 @@
 
 pub mod combine_text;
 pub mod contour;
+pub mod ctp_svg;
 pub mod design_summary;
 pub mod diagram_svg;
 pub mod diagram_text;
 pub mod fonts;
 pub mod leakage;
+pub mod leakage_marks;
 pub mod leakage_svg;
 pub mod origin;
 #[cfg(feature = "png")]
 pub mod png;
+pub mod scene;
 pub mod spectrum_svg;
 pub mod svg;
 pub mod weight_text;

@@ -49,23 +49,48 @@ pub fn spectrum_svg(p: &SpectrumPicture) -> String {
     let n = p.panels.len().max(1) as f64;
     let width = LEFT + n * MAP + (n - 1.0) * GAP + BAR;
     let title = wrap(&p.title, 14.0, width - 20.0);
-    let top = 30.0 + 18.0 * title.len() as f64;
-    let height = top + MAP + 60.0;
-    let mut svg = Svg::new(width, height);
-    for (k, line) in title.iter().enumerate() {
-        svg.text(10.0, 22.0 + 18.0 * k as f64, 14.0, "start", "#222", line);
-    }
     let scale = p
         .panels
         .first()
         .map_or(1.0, |q| window_max(q.spectrum, p.window, p.component))
         .max(f64::MIN_POSITIVE);
+    let captions: Vec<Vec<String>> = p
+        .panels
+        .iter()
+        .map(|q| wrap(&caption(q, p, scale), 12.0, MAP + GAP - 8.0))
+        .collect();
+    let caption_lines = captions.iter().map(Vec::len).max().unwrap_or(1).max(1);
+    let top = 30.0 + 18.0 * title.len() as f64 + 15.0 * (caption_lines - 1) as f64;
+    let height = top + MAP + 60.0;
+    let mut svg = Svg::new(width, height);
+    for (k, line) in title.iter().enumerate() {
+        svg.text(10.0, 22.0 + 18.0 * k as f64, 14.0, "start", "#222", line);
+    }
     for (k, panel) in p.panels.iter().enumerate() {
         let x0 = LEFT + k as f64 * (MAP + GAP);
         draw_panel(&mut svg, panel, p, x0, top, scale);
+        let lines = &captions[k];
+        for (i, line) in lines.iter().enumerate() {
+            let y = top - 8.0 - 15.0 * (lines.len() - 1 - i) as f64;
+            svg.text(x0 + MAP / 2.0, y, 12.0, "middle", "#222", line);
+        }
     }
     colour_bar(&mut svg, p.component, scale, width - BAR + 20.0, top);
     svg.finish()
+}
+
+/// A panel's caption; a panel beyond the shared scale saturates, and says by how much.
+fn caption(panel: &Panel, p: &SpectrumPicture, scale: f64) -> String {
+    let over = window_max(panel.spectrum, p.window, p.component) / scale;
+    if over > 1.001 {
+        let digits = if over >= 10.0 { 0 } else { 2 };
+        format!(
+            "{} (clipped: peak {over:.digits$}x the scale)",
+            panel.caption
+        )
+    } else {
+        panel.caption.clone()
+    }
 }
 
 fn value(s: &Spectrum2D, i: usize, j: usize, c: Component) -> f64 {
@@ -145,14 +170,7 @@ fn draw_panel(svg: &mut Svg, panel: &Panel, p: &SpectrumPicture, x0: f64, y0: f6
     contours(svg, s, p, &rows, &cols, scale, &px, &py);
     svg.line(px(lo), py(lo), px(hi), py(hi), "#666", 0.8, true);
     svg.rect(x0, y0, MAP, MAP, "none", "#333");
-    svg.text(
-        x0 + MAP / 2.0,
-        y0 - 8.0,
-        12.0,
-        "middle",
-        "#222",
-        &panel.caption,
-    );
+
     axes(svg, s, p.window, x0, y0, &px, &py);
 }
 
@@ -181,8 +199,11 @@ fn contours(
         .collect();
     let at_x = |f: f64| interp(&s.detection, cols, f);
     let at_y = |f: f64| interp(&s.excitation, rows, f);
-    let mut d = String::new();
+    // Positive levels solid, negative levels dashed (the usual way to tell signs apart in
+    // print, common practice).
+    let (mut solid, mut dashed) = (String::new(), String::new());
     for level in levels {
+        let d = if level < 0.0 { &mut dashed } else { &mut solid };
         for ((xa, ya), (xb, yb)) in contour(&z, rows.len(), cols.len(), level) {
             d.push_str(&format!(
                 "M{:.1},{:.1}L{:.1},{:.1}",
@@ -193,10 +214,12 @@ fn contours(
             ));
         }
     }
-    if !d.is_empty() {
-        svg.raw(&format!(
-            "<path d=\"{d}\" stroke=\"#333\" stroke-width=\"0.6\" fill=\"none\"/>"
-        ));
+    for (d, dash) in [(solid, ""), (dashed, " stroke-dasharray=\"2.5,2\"")] {
+        if !d.is_empty() {
+            svg.raw(&format!(
+                "<path d=\"{d}\" stroke=\"#333\" stroke-width=\"0.6\" fill=\"none\"{dash}/>"
+            ));
+        }
     }
 }
 
@@ -308,4 +331,12 @@ fn colour_bar(svg: &mut Svg, c: Component, scale: f64, x: f64, y0: f64) {
         "#333",
         &format!("× {scale:.2e}"),
     );
+    let label = match c {
+        Component::Real => "real part / scale",
+        Component::Magnitude => "magnitude / scale",
+    };
+    let (lx, ly) = (x + 58.0, y0 + MAP / 2.0);
+    svg.raw(&format!(
+        "<text x=\"{lx}\" y=\"{ly}\" font-size=\"10\" text-anchor=\"middle\" fill=\"#333\" transform=\"rotate(-90 {lx} {ly})\">{label}</text>"
+    ));
 }

@@ -133,3 +133,30 @@ impl Propagator {
         self.offsets.iter().flatten().all(|&x| x == 0.0)
     }
 }
+
+/// The frequency window `[lo, hi]` (in the energy unit) that holds every transition of the
+/// level scheme with room for its lines: the transition energies widened on each side by
+/// five times the broadest line (dephasing plus twice the inhomogeneous width) or a tenth of
+/// their spread, and at least 2 % of the highest. `None` without transitions.
+pub fn transition_window(levels: &LevelScheme, dyn_: &Dynamics) -> Option<[f64; 2]> {
+    let energies: Vec<f64> = levels
+        .transitions
+        .iter()
+        .map(|t| (dyn_.energies[t.upper] - dyn_.energies[t.lower]).abs())
+        .collect();
+    let lo = energies.iter().copied().fold(f64::INFINITY, f64::min);
+    let hi = energies.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    if !lo.is_finite() || !hi.is_finite() {
+        return None;
+    }
+    let widest = dyn_
+        .pair_dephasing
+        .iter()
+        .map(|p| p.2)
+        .fold(dyn_.dephasing, f64::max);
+    let margin = (5.0 * (widest + 2.0 * dyn_.inhomogeneous))
+        .max(0.1 * (hi - lo))
+        .max(0.02 * hi.abs())
+        .max(f64::MIN_POSITIVE);
+    Some([lo - margin, hi + margin])
+}

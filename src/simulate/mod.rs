@@ -12,16 +12,18 @@ pub mod grid;
 pub mod measure;
 pub mod response;
 pub mod rng;
+pub mod run;
 pub mod spectrum;
 #[cfg(test)]
 mod tests;
 pub mod units;
 
-pub use dynamics::{Dynamics, Propagator};
+pub use dynamics::{transition_window, Dynamics, Propagator};
 pub use dynamics_file::parse_dynamics;
 pub use grid::{parse_delays, DelayAxis, DelayGrid};
 pub use measure::{applied_phases, measure_steps, Background, PhaseErrors, StepSeries};
 pub use response::{delay_names, simulate_response, Response, TermSignal};
+pub use run::{ideal_outputs, simulate_cycle, CycleRun, RunRequest, SimulatedBackground};
 pub use spectrum::{spectrum_2d, ExcitationAxis, Spectrum2D, SpectrumRequest};
 pub use units::{EnergyUnit, TimeUnit};
 
@@ -48,6 +50,9 @@ pub enum SimulationError {
         /// Energy unit.
         unit: String,
     },
+    /// The cycle does not fit the experiment, or the data do not fit the cycle.
+    #[error(transparent)]
+    Combine(#[from] crate::combine::CombineError),
     /// From the model (size limits).
     #[error(transparent)]
     Model(#[from] crate::error::ModelError),

@@ -43,6 +43,9 @@ pub struct Response {
     /// True when the enumerator lists only the positive-frequency half (emission, pump-probe):
     /// the detected real signal then adds every term's complex conjugate with signature `-b`.
     pub add_conjugates: bool,
+    /// Signatures of signal pathways left out because the beams do not phase-match them
+    /// (they radiate away from the detector).
+    pub unmatched: Vec<Signature>,
 }
 
 /// Names of the delays of `exp`: `t1..tn`, one per pulse (after each pulse's interactions),
@@ -107,6 +110,18 @@ pub fn simulate_response(
             "more than {MAX_SIMULATED_PATHWAYS} signal pathways; simplify the level scheme"
         )));
     }
+    // With beam directions, the detector sees only the phase-matched terms (the selection's
+    // geometry rule: coherent terms with sum |b| > 2 that the beams do not phase-match).
+    let mut unmatched: Vec<Signature> = Vec::new();
+    if exp.fields.iter().any(|f| f.beam.is_some()) {
+        paths.retain(|p| {
+            let keep = p.signature.weight() <= 2 || exp.is_phase_matched(&p.signature);
+            if !keep && !unmatched.contains(&p.signature) {
+                unmatched.push(p.signature.clone());
+            }
+            keep
+        });
+    }
     check_sampling(&paths, &prop, grid, dyn_, undersample)?;
     let mut index: BTreeMap<Vec<i64>, usize> = BTreeMap::new();
     let mut terms: Vec<TermSignal> = Vec::new();
@@ -131,6 +146,7 @@ pub fn simulate_response(
         grid: grid.clone(),
         terms,
         add_conjugates: matches!(exp.detection, Detection::Emission | Detection::PumpProbe),
+        unmatched,
     })
 }
 

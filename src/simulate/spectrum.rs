@@ -13,6 +13,10 @@ use num_complex::Complex64;
 use rustfft::{FftDirection, FftPlanner};
 use serde::Serialize;
 
+/// Largest number of points of one 2D spectrum (after zero padding): 2^22 complex values are
+/// 64 MiB.
+pub const MAX_SPECTRUM_POINTS: usize = 1 << 22;
+
 /// How the excitation axis is read from the transform over t1.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -89,6 +93,11 @@ pub fn spectrum_2d(
     let (n1, n3) = (shape[0], shape[nd - 1]);
     let l1 = n1.max(req.min_points).next_power_of_two();
     let l3 = n3.max(req.min_points).next_power_of_two();
+    if l1.saturating_mul(l3) > MAX_SPECTRUM_POINTS {
+        return Err(SimulationError::BadRequest(format!(
+            "a {l1} x {l3} spectrum is above the limit of {MAX_SPECTRUM_POINTS} points; pad less (--pad) or take fewer delays"
+        )));
+    }
     // Stride of the first and last axes and the offset of the fixed middle indices.
     let stride1: usize = shape[1..].iter().product();
     let mut base = 0;

@@ -319,6 +319,15 @@ dephasing = 10.0
             worst < 1e-12 * scale,
             "{class:?}: joint - A - B = {worst} of {scale}"
         );
+        // Control: with an f-yield of 1 (the doubly excited state emits once, as if the
+        // systems quenched each other) the cross peaks no longer cancel.
+        let quenched = run(&text.replace("yield = 2.0", "yield = 1.0"), class);
+        let cross = quenched
+            .iter()
+            .zip(a.iter().zip(&b))
+            .map(|(j, (x, y))| (j - x - y).norm())
+            .fold(0.0, f64::max);
+        assert!(cross > 0.1 * scale, "{class:?}: control {cross} of {scale}");
     }
 }
 

@@ -19,13 +19,14 @@ use num_rational::Ratio;
 use rayon::prelude::*;
 
 use super::engine::{order_key, Engine, Sink};
+use super::enumerate::LatticeCounts;
 use super::hnf::Lattice;
 use super::problem::{normalise, LatticeProblem, Reduced};
 use super::seed::{korobov_seed, nested_seed};
 use super::DesignError;
 
 /// Progress report: the index being scanned and candidate rows tested so far.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Progress {
     /// Index N now being scanned (all smaller N are excluded).
     pub index: u64,
@@ -33,6 +34,10 @@ pub struct Progress {
     pub lattices_tested: u64,
     /// Steps of the best valid design known so far (a seed), if any.
     pub best: Option<u64>,
+    /// Estimated share (0 to 1) of the lattices with fewer steps than `best` already
+    /// excluded, weighting each index by its number of lattices
+    /// ([`super::enumerate::LatticeCounts`]); `None` without a best design or above the table.
+    pub share_done: Option<f64>,
 }
 
 /// Cancellation and progress hooks for a search.
@@ -101,6 +106,9 @@ pub enum SearchOutcome {
         lattices_tested: u64,
         /// True if the search was stopped before reaching `max_steps`.
         cancelled: bool,
+        /// Steps of a valid nested cycle above `max_steps` (the greedy nested seed without the
+        /// cap), so a refusal can say what raising the cap gives.
+        valid_above: Option<u64>,
     },
     /// A rejected (or other output's kept) signature equals `t_o` modulo the grid:
     /// no cycle on this grid separates them.
@@ -177,6 +185,9 @@ fn run(
     ) {
         best = Some(c);
     }
+    let counts = best
+        .as_ref()
+        .and_then(|l| LatticeCounts::new(problem.dims, l.index()));
     let mut tested = 0u64;
     let finish = |l: Lattice, proven: bool, below: u64, tested: u64| {
         SearchOutcome::Found(design(problem, l, proven, below, tested, nested_bound))
@@ -191,19 +202,28 @@ fn run(
             // The nested seed is valid: no need to look beyond its index.
             hi = hi.min(l.index() + 1).max(lo + 1);
         }
-        if let Some(cb) = ctl.progress {
-            cb(Progress {
-                index: lo,
-                lattices_tested: tested,
-                best: best.as_ref().map(Lattice::index),
-            });
-        }
+        let best_n = best.as_ref().map(Lattice::index);
+        let report = |part: f64, tested: u64| {
+            if let Some(cb) = ctl.progress {
+                cb(Progress {
+                    index: lo,
+                    lattices_tested: tested,
+                    best: best_n,
+                    share_done: counts
+                        .as_ref()
+                        .zip(best_n)
+                        .map(|(c, b)| c.share(lo, hi, part, b)),
+                });
+            }
+        };
+        report(0.0, tested);
         let cancelled_out = |best: Option<Lattice>, lo: u64, tested: u64| match best {
             Some(l) => finish(l, false, lo, tested),
             None => SearchOutcome::NotFound {
                 excluded_below: lo,
                 lattices_tested: tested,
                 cancelled: true,
+                valid_above: valid_above(&engine, ctl.cancel),
             },
         };
         if ctl.cancel.load(std::sync::atomic::Ordering::Relaxed) {
@@ -215,7 +235,10 @@ fn run(
         {
             return Ok((finish(l.clone(), true, lo, tested), vec![l.clone()]));
         }
-        let (found, t, cancelled) = scan(&engine, lo, hi, limit, ctl.cancel);
+        let before = tested;
+        let (found, t, cancelled) = scan(&engine, lo, hi, limit, ctl.cancel, &|part| {
+            report(part, before)
+        });
         tested += t;
         if cancelled {
             return Ok((cancelled_out(best, lo, tested), vec![]));
@@ -239,6 +262,7 @@ fn run(
             excluded_below: cap,
             lattices_tested: tested,
             cancelled: false,
+            valid_above: valid_above(&engine, ctl.cancel),
         },
         vec![],
     ))
@@ -253,6 +277,7 @@ fn scan(
     hi: u64,
     limit: usize,
     cancel: &AtomicBool,
+    on_task: &(dyn Fn(f64) + Sync),
 ) -> (Vec<Lattice>, u64, bool) {
     let best = AtomicU64::new(u64::MAX);
     let split = if engine.n >= 3 { Some(2) } else { None };
@@ -262,11 +287,14 @@ fn scan(
     let mut found = std::mem::take(&mut top.found);
     let mut tested = top.tested;
     let tasks = std::mem::take(&mut top.tasks);
+    let done = std::sync::atomic::AtomicUsize::new(0);
     let parts: Vec<(Vec<Lattice>, u64)> = tasks
         .par_iter()
         .map(|node| {
             let mut s = Sink::new(limit, &best, cancel);
             engine.dfs(node, lo, hi, &mut s);
+            let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            on_task(k as f64 / tasks.len() as f64);
             (s.found, s.tested)
         })
         .collect();
@@ -280,6 +308,12 @@ fn scan(
     found.truncate(limit);
     let cancelled = cancel.load(std::sync::atomic::Ordering::Relaxed);
     (found, tested, cancelled)
+}
+
+/// The steps of the greedy nested cycle with no step cap (up to the absolute limit of
+/// 1e7), when the capped search found nothing.
+fn valid_above(engine: &Engine, cancel: &AtomicBool) -> Option<u64> {
+    nested_seed(engine, 10_000_000, cancel).map(|(l, _)| l.index())
 }
 
 /// Up-front impossibility checks: identical signatures and grid aliasing.

@@ -11,7 +11,7 @@ use super::hnf::Lattice;
 const NESTED_BUDGET: u64 = 20_000_000;
 /// Forbidden-difference tests the exact nested search may make (about a second): the seed
 /// must come fast, whatever the size of the rejection set.
-const NESTED_WORK_BUDGET: u64 = 200_000_000;
+const NESTED_WORK_BUDGET: u64 = 40_000_000;
 const KOROBOV_BUDGET: u64 = 3_000_000;
 
 /// Smallest nested cycle with at most `max_steps` steps, as `(lattice, exact)`;
@@ -79,33 +79,44 @@ impl Nested<'_> {
         self.e.cap.is_none_or(|cap| c <= cap as u64)
     }
 
-    /// True if no forbidden difference decided at level k lies in the prefix.
-    fn clean(&mut self, k: usize, c: &[u64]) -> bool {
+    /// The distinct `|d_k|` of the forbidden differences decided at level k whose earlier
+    /// entries lie in the prefix `c[..k]`: `c_k = v` is clean iff `v` divides none of them.
+    fn bad_entries(&mut self, k: usize, c: &[u64]) -> Vec<i64> {
         self.work += self.e.forb[k].len() as u64;
-        !self.e.forb[k]
+        let mut bad: Vec<i64> = self.e.forb[k]
             .iter()
-            .any(|d| d[..=k].iter().zip(c).all(|(&x, &ci)| x % ci as i64 == 0))
+            .filter(|d| d[..k].iter().zip(c).all(|(&x, &ci)| x % ci as i64 == 0))
+            .map(|d| d[k].abs())
+            .collect();
+        bad.sort_unstable();
+        bad.dedup();
+        bad
+    }
+
+    fn clean_with(bad: &[i64], v: u64) -> bool {
+        bad.iter().all(|&b| b % v as i64 != 0)
     }
 
     fn greedy(&mut self) {
         let mut c: Vec<u64> = Vec::new();
         let mut p = 1u64;
+        // Cheap (one pass over each level's differences), so it runs even when the search is
+        // already cancelled: an interrupted design always has this valid fallback.
         for k in 0..self.e.n {
+            let bad = self.bad_entries(k, &c);
             let lim = self.best.saturating_sub(1) / p;
-            let mut ok = None;
-            for v in 1..=lim.min(1_000_000) {
-                if !self.allowed(k, v) {
-                    continue;
-                }
-                c.push(v);
-                if self.clean(k, &c) {
-                    ok = Some(v);
-                    break;
-                }
-                c.pop();
-            }
+            // Every v above max(bad) is clean, and an allowed v divides the required gcd
+            // when there is one: the walk stops at whichever comes first.
+            let top = match self.rj[k] {
+                0 => bad.last().map_or(1, |&b| b as u64 + 1),
+                r => r.unsigned_abs(),
+            };
+            let ok = (1..=lim.min(top)).find(|&v| self.allowed(k, v) && Self::clean_with(&bad, v));
             match ok {
-                Some(v) => p *= v,
+                Some(v) => {
+                    c.push(v);
+                    p *= v;
+                }
                 None => return,
             }
         }
@@ -124,26 +135,26 @@ impl Nested<'_> {
             }
             return;
         }
+        if self.work > NESTED_WORK_BUDGET || self.cancel.load(Ordering::Relaxed) {
+            self.stopped = true;
+            return;
+        }
+        let bad = self.bad_entries(k, c);
         let lim = (self.best - 1) / p;
         for v in 1..=lim {
             self.nodes += 1;
-            if self.nodes > NESTED_BUDGET
-                || self.work > NESTED_WORK_BUDGET
-                || (self.nodes % 1024 == 0 && self.cancel.load(Ordering::Relaxed))
-            {
+            if self.nodes > NESTED_BUDGET || self.stopped {
                 self.stopped = true;
                 return;
             }
             if p * v >= self.best {
                 return;
             }
-            if !self.allowed(k, v) {
+            if !self.allowed(k, v) || !Self::clean_with(&bad, v) {
                 continue;
             }
             c.push(v);
-            if self.clean(k, c) {
-                self.dfs(c, p * v);
-            }
+            self.dfs(c, p * v);
             c.pop();
         }
     }
