@@ -227,3 +227,59 @@ fn arrays_that_cannot_be_read_say_why_and_how_to_fix_it() {
         "{err}"
     );
 }
+
+// Integer-valued float degrees (issue 8): `120.0` is exactly 1/3 turn, so the 27-step nested
+// table (Tan, J. Chem. Phys. 129, 124501 (2008), from memory) saved as float64 degrees is
+// checked as written, class "exact" with nothing snapped; the same array through the Python
+// route (`cycle_from_arrays`) gives the same class. A value no double holds exactly (33.3 deg)
+// is still snapped, and says so.
+#[test]
+fn integer_valued_float_degrees_are_exact_as_written() {
+    let d = tempfile::tempdir().unwrap();
+    let idx = nested_indices();
+    let deg: Vec<Vec<f64>> = idx
+        .iter()
+        .map(|r| r.iter().map(|&k| 120.0 * k as f64).collect())
+        .collect();
+    let bytes: Vec<u8> = deg.iter().flatten().flat_map(|x| x.to_le_bytes()).collect();
+    let p = d.path().join("f8.npy");
+    std::fs::write(&p, npy("<f8", false, (27, 3), &bytes)).unwrap();
+    let (code, v, err) = check_json(&p, Some("degrees"));
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(v["snaps"], serde_json::json!([]));
+    for o in v["outputs"].as_array().unwrap() {
+        assert_eq!(o["class"], "exact", "{}", o["name"]);
+    }
+
+    let exp = pathsieve::experiment_file::read_experiment(Path::new(EXP)).unwrap();
+    let check = |rows: &[Vec<f64>]| {
+        let c = pathsieve::cycle::cycle_from_arrays(
+            vec![],
+            rows,
+            pathsieve::exact::PhaseUnit::Degrees,
+            vec![],
+        )
+        .unwrap();
+        pathsieve::check::check_cycle(&exp, &c, &Default::default()).unwrap()
+    };
+    let r = check(&deg);
+    assert!(r.clean && r.snaps.is_empty());
+    assert!(r
+        .outputs
+        .iter()
+        .all(|o| o.class == pathsieve::check::VerdictClass::Exact));
+    // 90.000 and 22.5 deg are exact too (1/4 and 1/16 turn); 33.3 deg is snapped to 37/400.
+    let mut odd = deg.clone();
+    odd[1][2] = 90.0;
+    odd[2][2] = 22.5;
+    let r = check(&odd);
+    assert!(r.snaps.is_empty(), "{:?}", r.snaps);
+    odd[3][2] = 33.3;
+    let r = check(&odd);
+    assert_eq!(r.snaps.len(), 1, "{:?}", r.snaps);
+    assert_eq!(r.snaps[0].exact, "37/400 turn");
+    assert!(r
+        .outputs
+        .iter()
+        .all(|o| o.class == pathsieve::check::VerdictClass::ExactAfterSnapping));
+}

@@ -2,7 +2,8 @@
 //! one row per step, and weights as complex doubles. Phases are read exactly as `pathsieve
 //! check` reads a bare NumPy array ([`crate::export::array_import`]), so the same array gets
 //! the same verdict in Python and on the command line: whole grid indices are exact `k/M`
-//! turns; other floats carry no decimal precision and the checker snaps them within its
+//! turns, and so are turns or degrees whose double is exactly a simple fraction of a turn
+//! (`120.0` deg); other floats carry no decimal precision and the checker snaps them within its
 //! snapping tolerance, as it does `~` cells (the report lists every snap). With no field names
 //! the binder assigns the columns (one per cycled field, or one per field). Weights are taken
 //! as written in double precision (radius 0 plus the checker's double-precision floor). Unit
