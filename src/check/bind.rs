@@ -142,7 +142,11 @@ impl BoundCycle {
                     .iter()
                     .map(|t| crate::cycle::text::format_phase(&Phase::Exact(*t)))
                     .collect();
-                values.extend(approx.iter().map(|x| format!("~{x}")));
+                values.extend(
+                    approx
+                        .iter()
+                        .map(|x| format!("~{}", crate::numfmt::compact(*x))),
+                );
                 super::FieldPhases {
                     field: exp.fields[j].name.clone(),
                     fixed: self.fixed[j],
