@@ -283,3 +283,75 @@ fn integer_valued_float_degrees_are_exact_as_written() {
         .iter()
         .all(|o| o.class == pathsieve::check::VerdictClass::ExactAfterSnapping));
 }
+
+// An .npz with a `weights` member but no sidecar (issue 8): the weight columns are the
+// experiment's wanted signals in order (R, NR, 2Q), as the Python route takes the same arrays,
+// with F(b) = sum_m w_m exp(+2 pi i b.phi_m) (docs/combine.md). The nested 27-step cycle with
+// w_m = exp(-2 pi i t.phi_m)/27 (Tan, J. Chem. Phys. 129, 124501 (2008), from memory) is
+// clean; the opposite sign convention loses the kept terms (exit 1, LOST); a column count that
+// does not match the wanted signals is refused with the fix.
+#[test]
+fn an_npz_with_weights_and_no_sidecar_is_read_in_the_documented_convention() {
+    use num_complex::Complex64;
+    let d = tempfile::tempdir().unwrap();
+    let idx = nested_indices();
+    let phases: Vec<u8> = idx
+        .iter()
+        .flatten()
+        .flat_map(|&k| k.to_le_bytes())
+        .collect();
+    let kept: [[i64; 3]; 3] = [[1, 1, -1], [-1, 1, -1], [1, -1, -1]];
+    let weights = |sign: f64, cols: usize| -> Vec<u8> {
+        idx.iter()
+            .flat_map(|r| {
+                kept[..cols].iter().map(move |t| {
+                    let tphi: i64 = t.iter().zip(r).map(|(a, b)| a * b).sum();
+                    let x = sign * std::f64::consts::TAU * tphi as f64 / 3.0;
+                    Complex64::from_polar(1.0 / 27.0, x)
+                })
+            })
+            .flat_map(|z| [z.re.to_le_bytes(), z.im.to_le_bytes()].concat())
+            .collect()
+    };
+    let archive = |name: &str, w: Vec<u8>, cols: usize| {
+        let bytes = pathsieve::export::npz::write_npz(&[
+            ("phases".into(), npy("<i8", false, (27, 3), &phases)),
+            ("weights".into(), npy("<c16", false, (27, cols), &w)),
+        ])
+        .unwrap();
+        let p = d.path().join(name);
+        std::fs::write(&p, bytes).unwrap();
+        p
+    };
+    let p = archive("good.npz", weights(-1.0, 3), 3);
+    let (code, v, err) = check_json(&p, Some("grid:3"));
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(v["clean"], true);
+    assert!(
+        v["notes"]
+            .to_string()
+            .contains("taken as the experiment's wanted signals R, NR, 2Q in order"),
+        "{}",
+        v["notes"]
+    );
+    let names: Vec<&str> = v["outputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|o| o["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["R", "NR", "2Q"]);
+
+    let p = archive("conjugated.npz", weights(1.0, 3), 3);
+    let (code, v, err) = check_json(&p, Some("grid:3"));
+    assert_eq!(code, 1, "{err}");
+    assert!(!v["outputs"][0]["lost"].as_array().unwrap().is_empty());
+
+    let p = archive("two.npz", weights(-1.0, 2), 2);
+    let (code, _, err) = check_json(&p, Some("grid:3"));
+    assert_eq!(code, 2);
+    assert!(
+        err.contains("2 column(s) with no names") && err.contains("[R, NR, 2Q]"),
+        "{err}"
+    );
+}
