@@ -187,7 +187,7 @@ pub fn bind_cycle(
     let cycle = if !cycle.outputs.is_empty() && cycle.outputs.iter().all(|o| o.name.is_empty()) {
         named = name_outputs(sel, cycle)?;
         notes.push(format!(
-            "the weight columns name no outputs: they are taken as the experiment's wanted signals {} in order, with F(b) = sum_m w_m exp(+2 pi i b.phi_m) (docs/combine.md); weights of the opposite sign convention show as a lost kept term and a passing conjugate (conjugate them)",
+            "the weight columns name no outputs: they are taken as the experiment's wanted signals {} in order, with F(b) = sum_m w_m exp(+2 pi i b.phi_m) (docs/combine.md); weights of the opposite sign convention show as a lost kept term (conjugate them)",
             named.outputs.iter().map(|o| o.name.as_str()).collect::<Vec<_>>().join(", ")
         ));
         &named
