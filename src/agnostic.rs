@@ -126,14 +126,32 @@ pub fn agnostic_set(
     let n = exp.fields.len();
     let count = check_agnostic_size(n, k, radius)?;
     let mut out = Vec::with_capacity(count as usize);
+    let mut refused = None;
     for_each_in_ball(n, radius, |b| {
+        if refused.is_some() {
+            return;
+        }
         let b = Signature(b.to_vec());
-        let matched = !phase_matched_only || b.weight() <= 2 || exp.is_phase_matched(&b);
+        // The selection's rule ([`Experiment::passes_geometry`]).
+        let matched = if phase_matched_only {
+            match exp.passes_geometry(&b) {
+                Ok(m) => m,
+                Err(e) => {
+                    refused = Some(e);
+                    false
+                }
+            }
+        } else {
+            true
+        };
         if matched && !wanted.contains(&b) {
             out.push(b);
         }
     });
-    Ok(out)
+    match refused {
+        Some(e) => Err(e),
+        None => Ok(out),
+    }
 }
 
 #[cfg(test)]

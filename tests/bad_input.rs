@@ -386,3 +386,70 @@ fn overflowing_weights_are_located_errors_not_nan_verdicts() {
         "{err}"
     );
 }
+
+/// True when `text` holds a run of at least `n` digits (a number written out in fixed point).
+fn has_digit_run(text: &str, n: usize) -> bool {
+    let mut run = 0;
+    text.chars().any(|c| {
+        run = if c.is_ascii_digit() { run + 1 } else { 0 };
+        run >= n
+    })
+}
+
+// Exact evaluation given up (issue 12): a phase of 1/100003 turn (100003 is prime) makes the
+// common order lcm(2, 100003) = 200006, above the exact limit 100000; weights of 1e100 pass the
+// 128-bit coefficient range. The report says which limit and which value, in the text and in
+// --json, the class is not "within the table's precision" (nothing was rounded), and every
+// number is in its short form (no 100-digit fixed-point text).
+#[test]
+fn a_check_past_the_exact_limits_says_which_limit_and_prints_short_numbers() {
+    let dir = temp_dir();
+    let exp = common::scheme("carbonyl-pump-probe.toml");
+    let exp = exp.to_str().unwrap();
+    for (name, weights) in [
+        ("explicit", r#"weights = ["1", "-1", "-1", "1"]"#),
+        ("signature", "from_signature = [-1, 1]"),
+    ] {
+        let p = put(
+            &dir,
+            &format!("{name}.cycle.toml"),
+            &carbonyl_cycle(100003, weights),
+        );
+        let (code, out, err) = run_within(Duration::from_secs(20), &["check", exp, &p, "--json"]);
+        assert_eq!(code, 1, "{name}: {err}");
+        let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+        let o = &v["outputs"][0];
+        assert_eq!(o["class"], "float-beyond-exact-limit", "{name}");
+        assert_eq!(o["exact"], false);
+        let f = &o["exact_fallback"];
+        assert_eq!(f["limit"], "cyclotomic order", "{name}: {f}");
+        assert_eq!(
+            (f["value"].as_u64(), f["max"].as_u64()),
+            (Some(200006), Some(100000))
+        );
+        assert!(v["notes"]
+            .to_string()
+            .contains("is 200006, above the exact limit 100000"));
+        let (_, text, _) = run_within(Duration::from_secs(20), &["check", exp, &p]);
+        assert!(
+            text.contains("exact cyclotomic order limit passed"),
+            "{text}"
+        );
+        assert!(!text.contains("from rounding alone"), "{text}");
+    }
+    let big = carbonyl_cycle(2, r#"weights = ["1e100", "-1", "-1", "1"]"#);
+    let p = put(&dir, "big-weights.cycle.toml", &big);
+    let (code, out, err) = run_within(Duration::from_secs(20), &["check", exp, &p, "--json"]);
+    assert_eq!(code, 1, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let o = &v["outputs"][0];
+    assert_eq!(o["class"], "float-beyond-exact-limit");
+    assert_eq!(o["exact_fallback"]["limit"], "128-bit coefficients");
+    assert!(o["exact_fallback"]["reason"]
+        .to_string()
+        .contains("1.000e100"));
+    assert!(!has_digit_run(&out, 20), "{out}");
+    let (_, text, _) = run_within(Duration::from_secs(20), &["check", exp, &p]);
+    assert!(text.contains("1.000e100"), "{text}");
+    assert!(!has_digit_run(&text, 20), "{text}");
+}

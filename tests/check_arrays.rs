@@ -227,3 +227,131 @@ fn arrays_that_cannot_be_read_say_why_and_how_to_fix_it() {
         "{err}"
     );
 }
+
+// Integer-valued float degrees (issue 8): `120.0` is exactly 1/3 turn, so the 27-step nested
+// table (Tan, J. Chem. Phys. 129, 124501 (2008), from memory) saved as float64 degrees is
+// checked as written, class "exact" with nothing snapped; the same array through the Python
+// route (`cycle_from_arrays`) gives the same class. A value no double holds exactly (33.3 deg)
+// is still snapped, and says so.
+#[test]
+fn integer_valued_float_degrees_are_exact_as_written() {
+    let d = tempfile::tempdir().unwrap();
+    let idx = nested_indices();
+    let deg: Vec<Vec<f64>> = idx
+        .iter()
+        .map(|r| r.iter().map(|&k| 120.0 * k as f64).collect())
+        .collect();
+    let bytes: Vec<u8> = deg.iter().flatten().flat_map(|x| x.to_le_bytes()).collect();
+    let p = d.path().join("f8.npy");
+    std::fs::write(&p, npy("<f8", false, (27, 3), &bytes)).unwrap();
+    let (code, v, err) = check_json(&p, Some("degrees"));
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(v["snaps"], serde_json::json!([]));
+    for o in v["outputs"].as_array().unwrap() {
+        assert_eq!(o["class"], "exact", "{}", o["name"]);
+    }
+
+    let exp = pathsieve::experiment_file::read_experiment(Path::new(EXP)).unwrap();
+    let check = |rows: &[Vec<f64>]| {
+        let c = pathsieve::cycle::cycle_from_arrays(
+            vec![],
+            rows,
+            pathsieve::exact::PhaseUnit::Degrees,
+            vec![],
+        )
+        .unwrap();
+        pathsieve::check::check_cycle(&exp, &c, &Default::default()).unwrap()
+    };
+    let r = check(&deg);
+    assert!(r.clean && r.snaps.is_empty());
+    assert!(r
+        .outputs
+        .iter()
+        .all(|o| o.class == pathsieve::check::VerdictClass::Exact));
+    // 90.000 and 22.5 deg are exact too (1/4 and 1/16 turn); 33.3 deg is snapped to 37/400.
+    let mut odd = deg.clone();
+    odd[1][2] = 90.0;
+    odd[2][2] = 22.5;
+    let r = check(&odd);
+    assert!(r.snaps.is_empty(), "{:?}", r.snaps);
+    odd[3][2] = 33.3;
+    let r = check(&odd);
+    assert_eq!(r.snaps.len(), 1, "{:?}", r.snaps);
+    assert_eq!(r.snaps[0].exact, "37/400 turn");
+    assert!(r
+        .outputs
+        .iter()
+        .all(|o| o.class == pathsieve::check::VerdictClass::ExactAfterSnapping));
+}
+
+// An .npz with a `weights` member but no sidecar (issue 8): the weight columns are the
+// experiment's wanted signals in order (R, NR, 2Q), as the Python route takes the same arrays,
+// with F(b) = sum_m w_m exp(+2 pi i b.phi_m) (docs/combine.md). The nested 27-step cycle with
+// w_m = exp(-2 pi i t.phi_m)/27 (Tan, J. Chem. Phys. 129, 124501 (2008), from memory) is
+// clean; the opposite sign convention loses the kept terms (exit 1, LOST); a column count that
+// does not match the wanted signals is refused with the fix.
+#[test]
+fn an_npz_with_weights_and_no_sidecar_is_read_in_the_documented_convention() {
+    use num_complex::Complex64;
+    let d = tempfile::tempdir().unwrap();
+    let idx = nested_indices();
+    let phases: Vec<u8> = idx
+        .iter()
+        .flatten()
+        .flat_map(|&k| k.to_le_bytes())
+        .collect();
+    let kept: [[i64; 3]; 3] = [[1, 1, -1], [-1, 1, -1], [1, -1, -1]];
+    let weights = |sign: f64, cols: usize| -> Vec<u8> {
+        idx.iter()
+            .flat_map(|r| {
+                kept[..cols].iter().map(move |t| {
+                    let tphi: i64 = t.iter().zip(r).map(|(a, b)| a * b).sum();
+                    let x = sign * std::f64::consts::TAU * tphi as f64 / 3.0;
+                    Complex64::from_polar(1.0 / 27.0, x)
+                })
+            })
+            .flat_map(|z| [z.re.to_le_bytes(), z.im.to_le_bytes()].concat())
+            .collect()
+    };
+    let archive = |name: &str, w: Vec<u8>, cols: usize| {
+        let bytes = pathsieve::export::npz::write_npz(&[
+            ("phases".into(), npy("<i8", false, (27, 3), &phases)),
+            ("weights".into(), npy("<c16", false, (27, cols), &w)),
+        ])
+        .unwrap();
+        let p = d.path().join(name);
+        std::fs::write(&p, bytes).unwrap();
+        p
+    };
+    let p = archive("good.npz", weights(-1.0, 3), 3);
+    let (code, v, err) = check_json(&p, Some("grid:3"));
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(v["clean"], true);
+    assert!(
+        v["notes"]
+            .to_string()
+            .contains("taken as the experiment's wanted signals R, NR, 2Q in order"),
+        "{}",
+        v["notes"]
+    );
+    let names: Vec<&str> = v["outputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|o| o["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["R", "NR", "2Q"]);
+
+    let p = archive("conjugated.npz", weights(1.0, 3), 3);
+    let (code, v, err) = check_json(&p, Some("grid:3"));
+    assert_eq!(code, 1, "{err}");
+    assert!(!v["outputs"][0]["lost"].as_array().unwrap().is_empty());
+
+    let p = archive("two.npz", weights(-1.0, 2), 2);
+    let (code, _, err) = check_json(&p, Some("grid:3"));
+    assert_eq!(code, 2);
+    assert!(
+        err.contains("2 column(s) with no names") && err.contains("[R, NR, 2Q]"),
+        "{err}"
+    );
+}

@@ -87,3 +87,43 @@ fn a_bad_phase_exits_two_naming_row_and_column() {
         "{err}"
     );
 }
+
+// The issue's typo (issue 8) on the bundled nested 27-step table with derived weights (Tan,
+// J. Chem. Phys. 129, 124501 (2008) (memory)): step 16 = (1/3, 2/3, 0) turn gets 210 deg on
+// field 2. Each output names the culprit once, in the text and in --json.
+#[test]
+fn a_culprit_is_named_once_per_output() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = std::fs::read_to_string("schemes/dye-fluorescence-27step.cycle.toml").unwrap();
+    let row = r#"  ["1/3", "2/3", "0"],"#;
+    assert_eq!(text.matches(row).count(), 1);
+    let p = dir.path().join("typo.cycle.toml");
+    std::fs::write(&p, text.replace(row, r#"  ["7/12", "2/3", "0"],"#)).unwrap();
+    let args = [
+        "check",
+        "schemes/dye-fluorescence-2d.toml",
+        p.to_str().unwrap(),
+    ];
+    let (code, out, err) = run(&args);
+    assert_eq!(code, 1, "{err}");
+    let line = "suspect (wrong phase): step 16, field 2: 7/12 turn (210 deg) -> 1/3 turn (120 deg)";
+    // One line per output (three outputs), not two.
+    assert_eq!(out.matches(line).count(), 3, "{out}");
+    let (code, out, err) = run(&[args[0], args[1], args[2], "--json"]);
+    assert_eq!(code, 1, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    for o in v["outputs"].as_array().unwrap() {
+        let texts: Vec<&str> = o["suspects"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s["correction"].as_str().unwrap())
+            .collect();
+        let mut unique = texts.clone();
+        unique.sort_unstable();
+        unique.dedup();
+        assert_eq!(unique.len(), texts.len(), "{}: {texts:?}", o["name"]);
+        assert!(texts.iter().any(|t| line.ends_with(t)), "{texts:?}");
+        assert_eq!(o["suspect_steps"], serde_json::json!([16]));
+    }
+}

@@ -172,3 +172,46 @@ fn real_fluorescence_data_give_a_complex_csv_and_the_notes_say_why() {
     );
     assert_eq!(text.lines().count(), 2);
 }
+
+// Every file `combine` writes is checked before any work (issue 12): with --out comb.npy the
+// output `absorptive` goes to comb.absorptive.npy. An existing one is refused without --force,
+// and the same path as the data input is refused even with --force, both before the data are
+// read (the data file here is not NPY at all, so reading it would fail differently).
+#[test]
+fn every_output_file_is_checked_before_the_data_are_read() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = |n: &str| dir.path().join(n).display().to_string();
+    let per_output = d("comb.absorptive.npy");
+    std::fs::write(&per_output, "keep me").unwrap();
+    std::fs::write(d("scan.npy"), "not an array").unwrap();
+    let combine = |data: &str, force: bool| {
+        let mut args = vec![
+            "combine",
+            "schemes/carbonyl-pump-probe.toml",
+            "schemes/carbonyl-2x2.cycle.toml",
+            data,
+            "--out",
+        ];
+        let out = d("comb.npy");
+        args.push(&out);
+        if force {
+            args.push("--force");
+        }
+        run_cli(&args)
+    };
+    let (code, _, err) = combine(&d("scan.npy"), false);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("comb.absorptive.npy already exists"), "{err}");
+    assert_eq!(std::fs::read_to_string(&per_output).unwrap(), "keep me");
+    let (code, _, err) = combine(&per_output, true);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("is the input"), "{err}");
+    assert_eq!(std::fs::read_to_string(&per_output).unwrap(), "keep me");
+    // The sidecar too: comb.meta.json existing is refused before the data are read.
+    std::fs::remove_file(&per_output).unwrap();
+    std::fs::write(d("comb.meta.json"), "{}").unwrap();
+    let (code, _, err) = combine(&d("scan.npy"), false);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("comb.meta.json already exists"), "{err}");
+    assert!(!dir.path().join("comb.absorptive.npy").exists());
+}

@@ -129,3 +129,84 @@ fn beam_components_with_too_many_digits_are_refused_with_the_fix() {
         "{err}"
     );
 }
+
+fn cli_json(args: &[&str]) -> serde_json::Value {
+    let (code, out, err) = common::run_cli(args);
+    assert!(code == 0 || code == 1, "{args:?}: {err}");
+    serde_json::from_str(&out).unwrap()
+}
+
+fn signatures(v: &serde_json::Value) -> std::collections::BTreeSet<Vec<i64>> {
+    v.as_array()
+        .unwrap()
+        .iter()
+        .map(|s| {
+            s.as_array()
+                .unwrap()
+                .iter()
+                .map(|x| x.as_i64().unwrap())
+                .collect()
+        })
+        .collect()
+}
+
+// One geometry rule everywhere (issue 8): on the bundled pump-probe scheme with beam directions
+// (two pumps along one beam, the probe along another), `pathways` marks a term phase matched
+// exactly when `check` and `design` keep it in their rejection set (or it is wanted), and
+// `agnostic --geometry` lists the same set. The physics (common practice): with k_pu1 = k_pu2,
+// scatter pairs such as (+1,0,-1) reach the detector whatever the directions and are always
+// rejected; (-2,+2,0) radiates along k_pr and is rejected; (+2,0,-2), (+2,-1,-1) and the 2Q
+// term (+1,+1,-2) do not radiate along the probe and are dropped.
+#[test]
+fn pathways_check_design_and_agnostic_agree_on_what_is_phase_matched() {
+    let exp = "schemes/carbonyl-pump-probe.toml";
+    let listing = cli_json(&["pathways", exp, "--all", "--summary", "--json"]);
+    let check = cli_json(&["check", exp, "schemes/carbonyl-2x2.cycle.toml", "--json"]);
+    let design = cli_json(&["design", exp, "--json"]);
+    let agnostic = cli_json(&["agnostic", exp, "--geometry", "--json"]);
+    let checked: std::collections::BTreeSet<Vec<i64>> = check["outputs"][0]["impact"]["terms"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|t| {
+            t["signature"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .map(|x| x.as_i64().unwrap())
+                .collect()
+        })
+        .collect();
+    assert_eq!(checked, signatures(&agnostic["rejected"]));
+    assert_eq!(
+        design["rejected_terms"].as_u64(),
+        Some(checked.len() as u64)
+    );
+    assert_eq!(
+        design["verified"]["rejected_checked"],
+        serde_json::json!([checked.len()])
+    );
+    let wanted = signatures(&agnostic["wanted"]);
+    let mut matched = 0;
+    for e in listing["summary"]["signatures"].as_array().unwrap() {
+        let s: Vec<i64> = e["signature"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_i64().unwrap())
+            .collect();
+        let in_selection = checked.contains(&s) || wanted.contains(&s);
+        assert_eq!(e["phase_matched"].as_bool(), Some(in_selection), "{s:?}");
+        matched += usize::from(in_selection);
+    }
+    assert_eq!(matched, 7, "{listing}");
+    for (s, kept) in [
+        (vec![1, 0, -1], true),
+        (vec![-2, 2, 0], true),
+        (vec![2, 0, -2], false),
+        (vec![2, -1, -1], false),
+        (vec![1, 1, -2], false),
+    ] {
+        assert_eq!(checked.contains(&s), kept, "{s:?}");
+    }
+}

@@ -449,3 +449,48 @@ fn check_reads_the_tools_own_json_export() {
     assert_eq!(code, 0, "{out}{err}");
     assert!(out.contains("clean through order"), "{out}");
 }
+
+// Integer-valued decimals are exact values (issue 8): the 27-step nested cycle (Tan 2008
+// (memory)) written as `120.0` or `240.000` degrees, in CSV and as TOML floats, is checked
+// exactly as written: class "exact", nothing snapped.
+#[test]
+fn integer_valued_decimal_degrees_are_exact_not_snapped() {
+    let exp = read_experiment(&scheme("dye-fluorescence-2d.toml")).unwrap();
+    let idx: Vec<[u32; 3]> = (0..27).map(|m| [m / 9, (m / 3) % 3, m % 3]).collect();
+    for d in [1, 3] {
+        let mut csv = "# unit = degrees\n2,3,4\n".to_string();
+        for r in &idx {
+            let cells: Vec<String> = r
+                .iter()
+                .map(|&k| format!("{:.*}", d, 120.0 * f64::from(k)))
+                .collect();
+            csv.push_str(&(cells.join(",") + "\n"));
+        }
+        assert!(csv.contains("120.0"));
+        let r = check_text(&csv, &exp);
+        assert!(r.clean && r.snaps.is_empty(), "{d}: {:?}", r.snaps);
+        assert!(
+            r.outputs.iter().all(|o| o.class == VerdictClass::Exact),
+            "{d}"
+        );
+    }
+    let rows: Vec<String> = idx
+        .iter()
+        .map(|r| {
+            format!(
+                "[{:.1}, {:.1}, {:.1}]",
+                120.0 * f64::from(r[0]),
+                120.0 * f64::from(r[1]),
+                120.0 * f64::from(r[2])
+            )
+        })
+        .collect();
+    let toml = format!(
+        "[cycle]\nunit = \"degrees\"\nfields = [\"2\", \"3\", \"4\"]\nsteps = [{}]\n",
+        rows.join(", ")
+    );
+    let c = pathsieve::cycle::read_cycle_toml(&toml, Path::new("lab.toml"), None).unwrap();
+    let r = check_cycle(&exp, &c, &CheckRequest::default()).unwrap();
+    assert!(r.clean && r.snaps.is_empty(), "{:?}", r.snaps);
+    assert!(r.outputs.iter().all(|o| o.class == VerdictClass::Exact));
+}

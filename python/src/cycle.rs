@@ -8,8 +8,8 @@ use num_complex::Complex64;
 use numpy::{PyArray2, PyReadonlyArray2};
 use pathsieve::cycle::text::format_weight;
 use pathsieve::cycle::{
-    cycle_from_arrays, read_cycle, read_cycle_csv, read_cycle_toml, write_cycle_csv,
-    write_cycle_toml, Cycle, Phase,
+    check_array_shape, cycle_from_arrays, read_cycle, read_cycle_csv, read_cycle_toml,
+    write_cycle_csv, write_cycle_toml, Cycle, Phase,
 };
 use pathsieve::limits::MAX_FILE_BYTES;
 use pyo3::prelude::*;
@@ -84,6 +84,11 @@ impl PyCycle {
         outputs: Option<Vec<String>>,
     ) -> PyResult<Self> {
         let u = crate::arrays::unit(unit)?;
+        // The shapes against the cycle-file limits before anything is copied.
+        let view = phases.as_array();
+        let (steps, width) = (view.nrows(), view.ncols());
+        let outputs_given = weights.as_ref().map_or(0, |w| w.as_array().ncols());
+        check_array_shape(steps, width, outputs_given).map_err(lib_err)?;
         // No names: the checker assigns the columns (one per cycled field, or one per field).
         let fields = fields.unwrap_or_default();
         let outs = match weights {

@@ -142,7 +142,11 @@ impl BoundCycle {
                     .iter()
                     .map(|t| crate::cycle::text::format_phase(&Phase::Exact(*t)))
                     .collect();
-                values.extend(approx.iter().map(|x| format!("~{x}")));
+                values.extend(
+                    approx
+                        .iter()
+                        .map(|x| format!("~{}", crate::numfmt::compact(*x))),
+                );
                 super::FieldPhases {
                     field: exp.fields[j].name.clone(),
                     fixed: self.fixed[j],
@@ -176,6 +180,17 @@ pub fn bind_cycle(
             assigned.fields.join(", ")
         ));
         &assigned
+    } else {
+        cycle
+    };
+    let named;
+    let cycle = if !cycle.outputs.is_empty() && cycle.outputs.iter().all(|o| o.name.is_empty()) {
+        named = name_outputs(sel, cycle)?;
+        notes.push(format!(
+            "the weight columns name no outputs: they are taken as the experiment's wanted signals {} in order, with F(b) = sum_m w_m exp(+2 pi i b.phi_m) (docs/combine.md); weights of the opposite sign convention show as a lost kept term (conjugate them)",
+            named.outputs.iter().map(|o| o.name.as_str()).collect::<Vec<_>>().join(", ")
+        ));
+        &named
     } else {
         cycle
     };
@@ -304,6 +319,25 @@ fn assign_columns(exp: &Experiment, cycle: &Cycle) -> Result<Cycle, CheckError> 
         fields,
         ..cycle.clone()
     })
+}
+
+/// A cycle whose weight columns carry no names (an archive's `weights` member without a
+/// sidecar): one column per wanted signal of the experiment, in its order.
+fn name_outputs(sel: &Selection, cycle: &Cycle) -> Result<Cycle, CheckError> {
+    let wanted: Vec<String> = sel.outputs.iter().map(|r| r.name.clone()).collect();
+    if wanted.len() != cycle.outputs.len() {
+        return Err(CheckError::OutputMismatch(format!(
+            "the weights have {} column(s) with no names but the experiment wants {} signal(s) [{}]; save one weight column per wanted signal in that order, or export with pathsieve (its sidecar names the outputs)",
+            cycle.outputs.len(),
+            wanted.len(),
+            wanted.join(", ")
+        )));
+    }
+    let mut c = cycle.clone();
+    for (o, name) in c.outputs.iter_mut().zip(wanted) {
+        o.name = name;
+    }
+    Ok(c)
 }
 
 fn bind_outputs(

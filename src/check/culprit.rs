@@ -202,11 +202,10 @@ fn candidates(
                     (Some(ws), false) if tab.all_exact => pattern_weight(ws, rows, t, m, &new),
                     _ => None,
                 };
-                for weight in [None, follow] {
+                // Keeping the step's weight, then (explicit exact weights only) with the
+                // weight that follows the pattern: never the same change twice.
+                for weight in std::iter::once(None).chain(follow.map(Some)) {
                     let redo = weight.is_some();
-                    if redo && !tab.all_exact {
-                        continue;
-                    }
                     out.push(Change {
                         step: m,
                         field: Some(j),
@@ -227,9 +226,6 @@ fn candidates(
                         kind: "wrong phase",
                         involved: vec![m + 1],
                     });
-                    if redo {
-                        break;
-                    }
                 }
             }
         }

@@ -7,7 +7,7 @@ use super::bind::{BoundCycle, BoundOutput};
 use super::{impact, inseparable, tolerance};
 use super::{CheckError, CheckOptions, ConjugateTerm, FirstLeak, KeptTerm, Leak, OutputReport};
 use crate::cycle::{Weight, WeightSource};
-use crate::exact::ExactFilter;
+use crate::exact::{Cyclo, ExactFilter, Turns};
 use crate::model::Experiment;
 use crate::selection::{Origin, Term};
 use num_complex::Complex64;
@@ -56,6 +56,74 @@ pub enum VerdictClass {
     /// Some cell matches no simple exact value: each `F(b)` is zero within the table's
     /// precision (`|F| <=` a rigorous rounding bound) or a leak provably above it.
     WithinPrecision,
+    /// Every cell is exact, but exact arithmetic would pass a limit ([`ExactFallback`] says
+    /// which): each `F(b)` is evaluated in double precision and judged against a rigorous
+    /// bound on the float error.
+    FloatBeyondExactLimit,
+}
+
+/// Why an output whose cells are all exact was evaluated in floating point.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ExactFallback {
+    /// The limit passed: `cyclotomic order` (the common order of the phases and weights, the
+    /// field `Q(zeta_L)` every value lies in) or `128-bit coefficients`.
+    pub limit: String,
+    /// The value that passed it (the common order), when it is a number that fits `u64`.
+    pub value: Option<u64>,
+    /// The limit (e.g. [`crate::exact::MAX_ORDER`]), when it is a number.
+    pub max: Option<u64>,
+    /// What was given up, why, and the way back to an exact verdict.
+    pub reason: String,
+}
+
+impl ExactFallback {
+    fn of(err: &crate::exact::ExactError, phases: &[Vec<Turns>], weights: &[Cyclo]) -> Self {
+        use crate::exact::ExactError;
+        let done = "F is evaluated in double precision with a rigorous bound on the float error";
+        match err {
+            ExactError::OrderTooLarge { .. } => Self::order(phases, weights),
+            other => {
+                let largest = weights
+                    .iter()
+                    .map(|w| w.to_complex().norm())
+                    .fold(0.0, f64::max);
+                ExactFallback {
+                    limit: "128-bit coefficients".into(),
+                    value: None,
+                    max: None,
+                    reason: format!(
+                        "exact arithmetic not used: the exact coefficients of the weights (largest |w| = {}) pass the 128-bit integer range of exact evaluation ({other}); {done}; scale the weights down (a common factor changes no verdict) for an exact verdict",
+                        crate::numfmt::short(largest)
+                    ),
+                }
+            }
+        }
+    }
+}
+
+impl ExactFallback {
+    /// The common order of `phases` and `weights` passes [`crate::exact::MAX_ORDER`].
+    fn order(phases: &[Vec<Turns>], weights: &[Cyclo]) -> Self {
+        let max = crate::exact::MAX_ORDER;
+        let order = common_order(phases, weights);
+        let shown = order.map_or_else(|| "above 2^64".to_string(), |l| l.to_string());
+        ExactFallback {
+            limit: "cyclotomic order".into(),
+            value: order,
+            max: Some(u64::from(max)),
+            reason: format!(
+                "exact arithmetic not used: the common order of the phases and weights (lcm of the phase denominators and weight orders) is {shown}, above the exact limit {max}; F is evaluated in double precision with a rigorous bound on the float error; put the phases on a coarser grid (smaller denominators) for an exact verdict"
+            ),
+        }
+    }
+}
+
+/// The lcm of the phase denominators and the weight orders, `None` beyond `u64`.
+fn common_order(phases: &[Vec<Turns>], weights: &[Cyclo]) -> Option<u64> {
+    let dens = phases.iter().flatten().map(|p| p.denom().unsigned_abs());
+    let orders = weights.iter().map(|w| u64::from(w.order()));
+    dens.chain(orders)
+        .try_fold(1u64, crate::exact::checked_lcm_u64)
 }
 
 /// The evaluator of one output's filter.
@@ -82,6 +150,8 @@ pub struct NumericFilter {
     /// For weights derived from a signature `t` (`w_m = exp(-2 pi i t.phi_m)/N`, following
     /// the phases): `t`, so that the bound uses `b - t`.
     pub derived_from: Option<Vec<i64>>,
+    /// Set when every cell is exact but exact arithmetic passed a limit.
+    pub fallback: Option<ExactFallback>,
 }
 
 impl NumericFilter {
@@ -125,10 +195,17 @@ impl Evaluator {
     /// (as written or snapped), numeric with the precision bound otherwise.
     pub fn new(bound: &BoundCycle, out: &BoundOutput) -> Result<Evaluator, CheckError> {
         let exact_w = out.exact_weights();
-        if let (Some(p), Some(w)) = (bound.exact_phases(), exact_w.as_ref()) {
-            if let Ok(f) = ExactFilter::new(&p, w) {
-                return Ok(Evaluator::Exact(f));
-            }
+        let mut fallback = None;
+        let derived = matches!(out.source, WeightSource::FromSignature(_));
+        match (bound.exact_phases(), exact_w.as_ref()) {
+            (Some(p), Some(w)) => match ExactFilter::new(&p, w) {
+                Ok(f) => return Ok(Evaluator::Exact(f)),
+                Err(e) => fallback = Some(ExactFallback::of(&e, &p, w)),
+            },
+            // Weights derived from exact phases are inexact only when their root of unity
+            // passes the order limit.
+            (Some(p), None) if derived => fallback = Some(ExactFallback::order(&p, &[])),
+            _ => {}
         }
         let derived_from = match &out.source {
             WeightSource::FromSignature(_) => out.derived_from.as_ref().map(|t| t.0.clone()),
@@ -148,7 +225,16 @@ impl Evaluator {
             half_width: bound.half_width.clone(),
             weight_radius: out.weight_radius.clone(),
             derived_from,
+            fallback,
         })))
+    }
+
+    /// Why exact arithmetic was not used although every cell is exact.
+    pub fn fallback(&self) -> Option<&ExactFallback> {
+        match self {
+            Evaluator::Exact(_) => None,
+            Evaluator::Numeric(n) => n.fallback.as_ref(),
+        }
     }
 
     /// True for exact evaluation.
@@ -337,7 +423,10 @@ pub fn check_output(
             WeightSource::FromSignature(t) => format!("from signature {t} (cycle fields)"),
         },
         exact: ev.is_exact(),
-        class: if !ev.is_exact() {
+        exact_fallback: ev.fallback().cloned(),
+        class: if ev.fallback().is_some() {
+            VerdictClass::FloatBeyondExactLimit
+        } else if !ev.is_exact() {
             VerdictClass::WithinPrecision
         } else if bound
             .snaps

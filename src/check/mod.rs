@@ -58,7 +58,7 @@ use serde::Serialize;
 
 pub use bind::{bind_cycle, BoundCycle, BoundOutput, SnapPolicy};
 pub use culprit::Suspect;
-pub use evaluate::{Evaluator, NumericFilter, Value, VerdictClass};
+pub use evaluate::{Evaluator, ExactFallback, NumericFilter, Value, VerdictClass};
 pub use impact::{Impact, ImpactRequest};
 pub use inseparable::{Inseparable, InseparableKind};
 pub use snap_cells::Snap;
@@ -208,6 +208,10 @@ pub struct OutputReport {
     pub exact: bool,
     /// How the verdict was reached: exact, exact after snapping, within the written precision.
     pub class: VerdictClass,
+    /// Set when every cell is exact but exact arithmetic passed a limit: which limit, which
+    /// value, and the way back to an exact verdict (the class is then
+    /// [`VerdictClass::FloatBeyondExactLimit`]).
+    pub exact_fallback: Option<ExactFallback>,
     /// Within the written precision: the largest rounding bound over the rejected terms (a
     /// term is zero within precision when `|F|` is below its own bound). `None` when exact.
     pub rounding_bound: Option<f64>,
@@ -324,6 +328,11 @@ pub fn check(
             exp, &bound, out, &ev, &set, first, opts,
         )?);
     }
+    notes.extend(outputs.iter().filter_map(|o| {
+        o.exact_fallback
+            .as_ref()
+            .map(|f| format!("output `{}`: {}", o.name, f.reason))
+    }));
     let exact = outputs.iter().all(|o| o.exact);
     let first_leak_order = outputs
         .iter()

@@ -71,7 +71,7 @@ pub fn snap_phases(
                 out.snaps.push(Snap {
                     step: m + 1,
                     column: cycle.fields[c].clone(),
-                    written: format!("{} turn", p.turns_f64()),
+                    written: format!("{} turn", crate::numfmt::compact(p.turns_f64())),
                     exact: format!("{} turn", format_phase(&q)),
                 });
             }
@@ -160,7 +160,12 @@ pub fn snap_weights(cycle: &Cycle, o: usize, policy: &SnapPolicy) -> SnappedWeig
                     s.snaps.push(Snap {
                         step: m + 1,
                         column: format!("w:{}", out.name),
-                        written: format!("{}{:+}i", z.re, z.im),
+                        written: format!(
+                            "{}{}{}i",
+                            crate::numfmt::compact(z.re),
+                            if z.im < 0.0 { "-" } else { "+" },
+                            crate::numfmt::compact(z.im.abs())
+                        ),
                         exact: crate::cycle::text::format_weight(&Weight::Exact(c.clone())),
                     });
                 }

@@ -14,6 +14,7 @@ use pathsieve::exact::{parse_phase, PhaseUnit, PhaseValue};
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::model::backgrounds::{check_size, parse_key, BackgroundRule, KEY_FORMS};
 use pathsieve::model::{Backgrounds, Experiment};
+use pathsieve::numfmt::short;
 use pathsieve::selection::SelectionRequest;
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -197,6 +198,8 @@ fn render(r: &CheckReport) -> String {
         "arithmetic: {}",
         if r.exact && r.snaps.is_empty() {
             "exact (cyclotomic)"
+        } else if r.outputs.iter().any(|o| o.exact_fallback.is_some()) {
+            "floating point for some outputs: an exact limit was passed (see the notes), with a rigorous float-error bound"
         } else if r.exact {
             "exact (cyclotomic) for the table snapped within its written precision"
         } else {
@@ -477,6 +480,11 @@ fn class_label(o: &pathsieve::check::OutputReport) -> String {
             "within the table's precision: |F| <= {} from rounding alone",
             o.rounding_bound.map_or("-".into(), |b| format!("{b:.1e}"))
         ),
+        VerdictClass::FloatBeyondExactLimit => format!(
+            "floating point, exact {} limit passed: |F| <= {} from float error",
+            o.exact_fallback.as_ref().map_or("", |f| f.limit.as_str()),
+            o.rounding_bound.map_or("-".into(), |b| format!("{b:.1e}"))
+        ),
     }
 }
 
@@ -499,22 +507,21 @@ fn render_snaps(s: &mut String, snaps: &[pathsieve::check::Snap]) {
     }
 }
 
+/// A float value `~re+imi`: six decimals, or both parts with an exponent when the larger is
+/// 1e6 or more (never a hundred digits of fixed-point text).
 fn fmt_c(re: f64, im: f64) -> String {
-    format!(
-        "~{re:.6}{}{:.6}i",
-        if im < 0.0 { "-" } else { "+" },
-        im.abs()
-    )
+    let sign = if im < 0.0 { "-" } else { "+" };
+    if re.abs().max(im.abs()) >= 1e6 {
+        format!("~{}{sign}{}i", short(re), short(im.abs()))
+    } else {
+        format!("~{re:.6}{sign}{:.6}i", im.abs())
+    }
 }
 
-/// |F| for tables: fixed-point in the usual range, scientific notation for tiny values so a
-/// real but small leak never prints as 0.000000.
+/// |F| for tables: fixed-point in the usual range, scientific notation for tiny and huge values
+/// so a real but small leak never prints as 0.000000 ([`pathsieve::numfmt::short`]).
 fn fmt_abs(x: f64) -> String {
-    if x != 0.0 && x < 1e-4 {
-        format!("{x:.3e}")
-    } else {
-        format!("{x:.6}")
-    }
+    short(x)
 }
 
 /// A filter value for tables: its exact form when known, else the float with a `~` (the

@@ -7,7 +7,7 @@ use anyhow::Context;
 use clap::Args;
 use pathsieve::check::{check, CheckOptions};
 use pathsieve::combine::data_file::{
-    output_files, read_step_data, CombineMeta, OutputFormat, SCHEMA_VERSION,
+    output_files, output_paths, read_step_data, CombineMeta, OutputFormat, SCHEMA_VERSION,
 };
 use pathsieve::combine::{combine_cycle, order_from_export, CombineRequest, Normalise};
 use pathsieve::cycle::read_cycle;
@@ -80,8 +80,9 @@ pub fn run(a: CombineArgs) -> anyhow::Result<u8> {
         a.export.as_deref(),
     ])?;
     let format = OutputFormat::from_path(&a.out).map_err(|m| anyhow::anyhow!("--out: {m}"))?;
-    // The output and its sidecar are checked before any work (the per-output files of a
-    // multi-array result are checked again, with everything, when written).
+    // The output and its sidecar are checked before anything is read; every file the command
+    // writes (one per output for .npy) once the output names are known from the cycle and the
+    // experiment, before the check, the data and the combination.
     let side = sidecar_path(&a.out.with_extension("npy"));
     let mut inputs = vec![a.experiment.as_path(), a.cycle.as_path(), a.data.as_path()];
     inputs.extend(a.export.as_deref());
@@ -89,6 +90,15 @@ pub fn run(a: CombineArgs) -> anyhow::Result<u8> {
     let exp_bytes = pathsieve::input_text::read_bytes(&a.experiment)?;
     let exp = read_experiment(&a.experiment)?;
     let cycle = read_cycle(&a.cycle, None)?;
+    let names: Vec<String> = if cycle.outputs.is_empty() {
+        exp.wanted.iter().map(|w| w.name.clone()).collect()
+    } else {
+        cycle.outputs.iter().map(|o| o.name.clone()).collect()
+    };
+    let mut targets = output_paths(&a.out, format, &names);
+    targets.push(side.clone());
+    let targets: Vec<&Path> = targets.iter().map(PathBuf::as_path).collect();
+    pathsieve::safe_write::check_targets(&targets, &inputs, a.force)?;
     let sel = Selection::new(&exp, &SelectionRequest::default())?;
     let report = check(&sel, &cycle, &CheckOptions::default()).with_context(|| {
         format!(

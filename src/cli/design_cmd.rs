@@ -263,7 +263,17 @@ fn steps_table(c: &Cycle) -> String {
     header.extend(c.outputs.iter().map(|o| format!("w {}", o.name)));
     let h: Vec<&str> = header.iter().map(String::as_str).collect();
     let mut t = table(&h);
+    let n = c.steps.len();
+    let shown = |m: usize| n <= MAX_SHOWN_STEPS || m < HEAD_STEPS || m >= n - TAIL_STEPS;
     for (m, row) in c.steps.iter().enumerate() {
+        if !shown(m) {
+            if m == HEAD_STEPS {
+                let mut gap = vec!["...".to_string()];
+                gap.resize(h.len(), String::new());
+                t.add_row(gap);
+            }
+            continue;
+        }
         let mut cells = vec![(m + 1).to_string()];
         cells.extend(row.iter().map(|p| match p {
             Phase::Exact(r) => r.to_string(),
@@ -276,5 +286,17 @@ fn steps_table(c: &Cycle) -> String {
         );
         t.add_row(cells);
     }
+    if n > MAX_SHOWN_STEPS {
+        let hidden = n - HEAD_STEPS - TAIL_STEPS;
+        return format!(
+            "{t}\n({hidden} of {n} steps not shown here; every step is in the cycle file and in --json)\n"
+        );
+    }
     format!("{t}\n")
 }
+
+/// Longest step table shown whole on the terminal; longer ones show their first
+/// `HEAD_STEPS` and last `TAIL_STEPS` rows (the file and `--json` hold every step).
+const MAX_SHOWN_STEPS: usize = 64;
+const HEAD_STEPS: usize = 24;
+const TAIL_STEPS: usize = 8;

@@ -359,9 +359,19 @@ fn summary_table(s: &pathways::Summary) -> String {
             e.wanted_by.join(", "),
         ]);
     }
+    let pairs = s
+        .signatures
+        .iter()
+        .any(|e| e.phase_matched && e.signature.weight() <= 2 && e.signature.weight() > 0)
+        && s.signatures.iter().any(|e| !e.phase_matched);
     format!(
-        "summary: {} pathways in {} signatures\n{t}\n",
+        "summary: {} pathways in {} signatures\n{t}\n{}",
         s.total,
-        s.signatures.len()
+        s.signatures.len(),
+        if pairs {
+            "phase matched: as design and check decide; pair terms (sum |b| <= 2) always pass, since scatter reaches the detector whatever the beam directions\n"
+        } else {
+            ""
+        }
     )
 }

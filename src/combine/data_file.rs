@@ -238,6 +238,15 @@ fn npy_of(o: &super::CombinedOutput) -> Result<Vec<u8>, String> {
     r.map_err(|e| e.to_string())
 }
 
+/// The files [`output_files`] writes for outputs named `names` (without the metadata sidecar),
+/// known before any data are combined, so that every target can be checked before work.
+pub fn output_paths(out: &Path, format: OutputFormat, names: &[String]) -> Vec<PathBuf> {
+    match format {
+        OutputFormat::Npy => names.iter().map(|n| npy_path_for(out, n)).collect(),
+        OutputFormat::Npz | OutputFormat::Csv | OutputFormat::Tsv => vec![out.to_path_buf()],
+    }
+}
+
 /// The files (path, bytes) holding the outputs, without the metadata sidecar; also the
 /// location of each output (file, NPZ member or columns) for the metadata.
 ///

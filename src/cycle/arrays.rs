@@ -2,7 +2,8 @@
 //! one row per step, and weights as complex doubles. Phases are read exactly as `pathsieve
 //! check` reads a bare NumPy array ([`crate::export::array_import`]), so the same array gets
 //! the same verdict in Python and on the command line: whole grid indices are exact `k/M`
-//! turns; other floats carry no decimal precision and the checker snaps them within its
+//! turns, and so are turns or degrees whose double is exactly a simple fraction of a turn
+//! (`120.0` deg); other floats carry no decimal precision and the checker snaps them within its
 //! snapping tolerance, as it does `~` cells (the report lists every snap). With no field names
 //! the binder assigns the columns (one per cycled field, or one per field). Weights are taken
 //! as written in double precision (radius 0 plus the checker's double-precision floor). Unit
@@ -12,7 +13,7 @@ use super::plausible::unit_warning;
 use super::{Cycle, CycleMeta, CycleOutput, Weight, WeightSource, WrittenForm};
 use crate::exact::PhaseUnit;
 use crate::export::phase_import::to_phase;
-use crate::limits::MAX_STEPS;
+use crate::limits::{MAX_FIELDS, MAX_STEPS};
 use num_complex::Complex64;
 
 /// Why arrays could not be read as a cycle; every message names the cell and the fix.
@@ -36,6 +37,9 @@ pub enum ArrayError {
         /// How to fix it.
         fix: String,
     },
+    /// More columns, outputs or cells than a cycle file may hold.
+    #[error("{0}")]
+    TooLarge(String),
     /// NaN or infinity.
     #[error(
         "step {step}, column {column}: {value} is not a finite number; give every phase and weight"
@@ -48,6 +52,27 @@ pub enum ArrayError {
         /// The value as text.
         value: String,
     },
+}
+
+/// Refuse arrays of `steps` rows, `width` phase columns and `outputs` weight columns beyond the
+/// limits a cycle file has ([`MAX_STEPS`], [`MAX_FIELDS`], [`crate::limits::MAX_OUTPUTS`],
+/// [`crate::limits::MAX_CYCLE_CELLS`] over phases and weights), from the shapes alone: call it
+/// before the arrays are copied (the Python bindings do; [`cycle_from_arrays`] does first).
+///
+/// # Errors
+/// [`ArrayError::StepCount`] or [`ArrayError::TooLarge`] naming the limit and the fix.
+pub fn check_array_shape(steps: usize, width: usize, outputs: usize) -> Result<(), ArrayError> {
+    if steps == 0 || steps > MAX_STEPS {
+        return Err(ArrayError::StepCount { steps });
+    }
+    if width > MAX_FIELDS {
+        return Err(ArrayError::TooLarge(format!(
+            "the phase array has {width} columns; an experiment has at most {MAX_FIELDS} fields, so give one column per field (steps x fields)"
+        )));
+    }
+    super::bounds::check_outputs(outputs)
+        .map_err(|m| ArrayError::TooLarge(format!("the weight array has {m}")))?;
+    super::bounds::check_cells(steps, width.saturating_add(outputs)).map_err(ArrayError::TooLarge)
 }
 
 /// Build a cycle from `phases` (rows = steps, one value per entry of `fields`, in `unit`; with
@@ -64,14 +89,12 @@ pub fn cycle_from_arrays(
     outputs: Vec<(String, Vec<Complex64>)>,
 ) -> Result<Cycle, ArrayError> {
     let n = phases.len();
-    if n == 0 || n > MAX_STEPS {
-        return Err(ArrayError::StepCount { steps: n });
-    }
     let width = if fields.is_empty() {
-        phases[0].len()
+        phases.first().map_or(0, Vec::len)
     } else {
         fields.len()
     };
+    check_array_shape(n, width, outputs.len())?;
     let column = |j: usize| {
         fields
             .get(j)
@@ -219,6 +242,31 @@ mod tests {
         )
         .unwrap_err();
         assert!(e.to_string().contains("output `R`"), "{e}");
+    }
+
+    // Arrays are held to the limits of a cycle file (src/limits.rs) from their shapes, before
+    // anything is copied: 1e6 steps x 4 columns is the cell limit, one more column passes it.
+    #[test]
+    fn array_shapes_are_held_to_the_file_limits() {
+        use crate::limits::{MAX_CYCLE_CELLS, MAX_OUTPUTS};
+        assert!(check_array_shape(MAX_CYCLE_CELLS / 4, 4, 0).is_ok());
+        let e = check_array_shape(MAX_CYCLE_CELLS / 4, 4, 1).unwrap_err();
+        assert!(
+            e.to_string().contains("exceed the limit of 4000000 cells"),
+            "{e}"
+        );
+        assert!(matches!(
+            check_array_shape(MAX_STEPS + 1, 1, 0),
+            Err(ArrayError::StepCount { .. })
+        ));
+        let e = check_array_shape(10, MAX_FIELDS + 1, 0).unwrap_err();
+        assert!(e.to_string().contains("at most 12 fields"), "{e}");
+        let e = check_array_shape(10, 2, MAX_OUTPUTS + 1).unwrap_err();
+        assert!(e.to_string().contains("at most 64"), "{e}");
+        assert!(check_array_shape(usize::MAX, usize::MAX, usize::MAX).is_err());
+        // The library route refuses too: 13 columns of a 1-step array.
+        let e = cycle_from_arrays(vec![], &[vec![0.0; 13]], PhaseUnit::Turns, vec![]).unwrap_err();
+        assert!(matches!(e, ArrayError::TooLarge(_)), "{e}");
     }
 
     #[test]

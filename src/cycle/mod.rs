@@ -12,7 +12,7 @@ pub mod plausible;
 pub mod text;
 pub mod toml_format;
 
-pub use arrays::{cycle_from_arrays, ArrayError};
+pub use arrays::{check_array_shape, cycle_from_arrays, ArrayError};
 pub use csv_format::{read_cycle_csv, write_cycle_csv};
 pub use toml_format::{read_cycle_toml, write_cycle_toml};
 

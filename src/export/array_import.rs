@@ -3,8 +3,9 @@
 //! member (or a single member) and optionally a complex `weights` member. With the sidecar
 //! `NAME.meta.json` that `pathsieve export` writes, fields, unit, grid and the exact weights
 //! come from it (or from the `meta` member of an NPZ that `pathsieve export --format npz` wrote);
-//! without one (an array as numpy saved it) the unit must be given and the
-//! columns are the experiment's cycled fields in order (assigned when the cycle is bound).
+//! without one (an array as numpy saved it) the unit must be given, the columns are the
+//! experiment's cycled fields in order and the `weights` columns its wanted signals in order
+//! (both assigned when the cycle is bound, and said in a note).
 //! Float phases carry no decimal precision: the checker snaps them within its snapping
 //! tolerance, as it does `~` cells; integer phases are exact.
 
@@ -12,9 +13,10 @@ use super::meta::read_sidecar;
 use super::npy::{read_npy, NpyArray, NpyData};
 use super::npz::read_npz;
 use super::phase_import::{cycle_of_arrays, to_phase};
-use crate::cycle::{Cycle, CycleMeta, Phase, WrittenForm};
+use crate::cycle::{Cycle, CycleMeta, CycleOutput, Phase, Weight, WeightSource, WrittenForm};
 use crate::error::InputError;
 use crate::exact::{reduce_turn, PhaseUnit, Turns};
+use num_complex::Complex64;
 use std::path::Path;
 
 /// Read an `.npy` or `.npz` file as a cycle (see the module notes).
@@ -74,7 +76,7 @@ pub fn read_array_cycle(
             });
             Ok(c)
         }
-        None => bare(phases, weights.is_some(), unit_override, &layout, path),
+        None => bare(phases, weights, unit_override, &layout, path),
     }
 }
 
@@ -134,7 +136,7 @@ fn describe(a: &NpyArray) -> String {
 /// empty for the binder to assign.
 fn bare(
     a: NpyArray,
-    has_weights: bool,
+    weights: Option<NpyArray>,
     unit: Option<PhaseUnit>,
     layout: &str,
     path: &Path,
@@ -147,12 +149,6 @@ fn bare(
             side.display()
         )));
     };
-    if has_weights {
-        return Err(bad(format!(
-            "the archive's `weights` member needs the names of its outputs, which only the sidecar {} gives; export the cycle with pathsieve, or save only the phases (weights are then derived from the wanted signals)",
-            side.display()
-        )));
-    }
     let cols = match a.shape[..] {
         [_, c] => c,
         [_] => 1,
@@ -189,21 +185,73 @@ fn bare(
             j + 1
         )));
     }
+    let outputs = match weights {
+        Some(w) => unnamed_outputs(w, steps.len(), path)?,
+        None => Vec::new(),
+    };
+    let weight_radius = outputs
+        .iter()
+        .map(|_| vec![Some(0.0); steps.len()])
+        .collect();
     Ok(Cycle {
         fields: Vec::new(),
         steps,
-        outputs: Vec::new(),
+        outputs,
         meta: CycleMeta {
             written: Some(WrittenForm {
                 dialect: Some(format!(
                     "{layout} without a sidecar, phases in {}",
                     crate::cycle::text::unit_name(unit)
                 )),
+                // Weights as written in double precision (as the Python route takes them).
+                weight_radius,
                 ..WrittenForm::default()
             }),
             ..CycleMeta::default()
         },
     })
+}
+
+/// The `weights` member of an archive without a sidecar: one column per output (steps x
+/// outputs, or a vector for one output), real or complex, with no names; the binder names
+/// them after the experiment's wanted signals in order
+/// ([`crate::check::bind::bind_cycle`]), as the Python route does.
+fn unnamed_outputs(w: NpyArray, n: usize, path: &Path) -> Result<Vec<CycleOutput>, InputError> {
+    let bad = |m: String| InputError::new(path, None, None, m);
+    let k = match w.shape[..] {
+        [rows] if rows == n => 1,
+        [rows, k] if rows == n && k >= 1 => k,
+        _ => {
+            return Err(bad(format!(
+                "the `weights` member has shape {:?} for {n} steps; save it as (steps, outputs), one column per wanted signal of the experiment in its order",
+                w.shape
+            )))
+        }
+    };
+    crate::cycle::bounds::check_outputs(k)
+        .map_err(|m| bad(format!("the `weights` member: {m}")))?;
+    let values: Vec<Complex64> = match w.data {
+        NpyData::C128(v) => v,
+        NpyData::F64(v) => v.into_iter().map(|x| Complex64::new(x, 0.0)).collect(),
+        NpyData::I64(v) => v
+            .into_iter()
+            .map(|x| Complex64::new(x as f64, 0.0))
+            .collect(),
+    };
+    if let Some(i) = values.iter().position(|z| !z.is_finite()) {
+        return Err(bad(format!(
+            "the `weights` member: step {}, column {} is not a finite number; every weight must be a number",
+            i / k + 1,
+            i % k + 1
+        )));
+    }
+    Ok((0..k)
+        .map(|o| CycleOutput {
+            name: String::new(),
+            weights: (0..n).map(|m| Weight::Approx(values[m * k + o])).collect(),
+            source: WeightSource::Explicit,
+        })
+        .collect())
 }
 
 /// An integer phase: exact in turns, degrees and grid steps; radians are not rational turns.

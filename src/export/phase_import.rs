@@ -17,9 +17,37 @@ use std::path::Path;
 /// Distance (in grid steps) within which a float phase is taken as the grid point.
 const SNAP: f64 = 1e-9;
 
-/// A float phase in `unit` as turns: exact on a grid index or within 1e-9 of a point of
-/// `grid`, approximate otherwise.
+/// Largest turn denominator of a float phase taken as the exact value it is: 3600, the
+/// 0.1-degree grid (the checker's default largest snapping denominator).
+pub(crate) const EXACT_FLOAT_DENOMINATOR: i64 = 3600;
+
+/// A float phase in turns or degrees whose value is exactly a fraction of a turn with a
+/// denominator of at most [`EXACT_FLOAT_DENOMINATOR`] (`120.0` deg, `90` deg, `22.5` deg,
+/// `0.25` turn): that fraction, reduced into `[0, 1)`. A double is exactly `a / 2^k`; `k` up to
+/// 12 is tried (scaling by a power of two is exact), so `33.3` deg, which no double holds
+/// exactly, is not exact here (the checker snaps it and says so).
+fn exact_float(value: f64, unit: PhaseUnit) -> Option<Turns> {
+    let per_turn: i64 = match unit {
+        PhaseUnit::Turns => 1,
+        PhaseUnit::Degrees => 360,
+        PhaseUnit::Radians | PhaseUnit::GridIndex(_) => return None,
+    };
+    if !value.is_finite() || value.abs() >= 1e12 {
+        return None;
+    }
+    let k = (0..=12).find(|&k| (value * f64::from(1u32 << k)).fract() == 0.0)?;
+    let whole = (value * f64::from(1u32 << k)) as i64;
+    let t = reduce_turn(Turns::new(whole, per_turn << k));
+    (*t.denom() <= EXACT_FLOAT_DENOMINATOR).then_some(t)
+}
+
+/// A float phase in `unit` as turns: exact on a grid index, within 1e-9 of a point of
+/// `grid`, or exactly a simple fraction of a turn ([`exact_float`]: integer degrees such as
+/// `120.0`); approximate otherwise.
 pub(crate) fn to_phase(value: f64, unit: PhaseUnit, grid: Option<u64>) -> Phase {
+    if let Some(t) = exact_float(value, unit) {
+        return Phase::Exact(t);
+    }
     let turns = match unit {
         PhaseUnit::Turns => value,
         PhaseUnit::Degrees => value / 360.0,

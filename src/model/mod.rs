@@ -292,6 +292,26 @@ impl Experiment {
         (0..dims).all(|d| num_traits::Zero::is_zero(&geometry::exact_sum(&beams, b, d)))
     }
 
+    /// The one geometry rule every command applies (the selection of `design`, `check`,
+    /// `export` and `draw`, the `agnostic --geometry` listing and the `pathways` phase-matched
+    /// column): a pair term (`sum |b| <= 2`: the reference alone, scatter of one pulse onto
+    /// another or the detector) always passes, since scatter reaches the detector whatever
+    /// the beam directions; a coherent term passes when the beams phase-match it
+    /// ([`Self::is_phase_matched`]).
+    ///
+    /// # Errors
+    /// [`ModelError::BeamRounding`] when the decision for a coherent term depends on how a
+    /// rounded beam component is read.
+    pub fn passes_geometry(&self, b: &Signature) -> Result<bool, crate::error::ModelError> {
+        if b.weight() <= 2 {
+            return Ok(true);
+        }
+        if let Some(detail) = self.phase_matching_depends_on_rounding(b) {
+            return Err(crate::error::ModelError::BeamRounding { detail });
+        }
+        Ok(self.is_phase_matched(b))
+    }
+
     /// The beam direction of each field (`None`: collinear, no constraint).
     pub fn beams(&self) -> Vec<Option<&[num_rational::Ratio<i64>]>> {
         self.fields.iter().map(|f| f.beam.as_deref()).collect()

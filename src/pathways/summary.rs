@@ -27,7 +27,8 @@ pub struct SignatureSummary {
     pub classes: BTreeMap<PathwayClass, u64>,
     /// Sum of the pathways' relative weights (sign, dipoles, yields).
     pub weight_sum: f64,
-    /// True when the term survives the beam geometry.
+    /// True when the term survives the beam geometry, by the selection's rule
+    /// ([`Experiment::passes_geometry`]: pair terms always, coherent terms when phase matched).
     pub phase_matched: bool,
     /// Names of the outputs that keep this signature.
     pub wanted_by: Vec<String>,
@@ -104,7 +105,7 @@ pub fn summarize(
                 reordered: 0,
                 classes: BTreeMap::new(),
                 weight_sum: 0.0,
-                phase_matched: exp.is_phase_matched(signature),
+                phase_matched: false, // set below by the selection's rule
                 wanted_by: wanted
                     .iter()
                     .filter(|(_, sigs)| sigs.contains(signature))
@@ -127,6 +128,9 @@ pub fn summarize(
         return Err(too_many(MAX_SUMMARY_SIGNATURES + 1));
     }
     let mut signatures: Vec<SignatureSummary> = map.into_values().collect();
+    for e in &mut signatures {
+        e.phase_matched = exp.passes_geometry(&e.signature)?;
+    }
     signatures.sort_by(|a, b| {
         a.signature
             .weight()

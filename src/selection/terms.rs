@@ -29,15 +29,14 @@ pub fn build(
         }
     };
     if geometry {
-        // Never let the rounding of a written beam component decide what is phase matched.
-        if let Some(detail) = terms
-            .iter()
-            .filter(|t| t.signature.weight() > 2)
-            .find_map(|t| exp.phase_matching_depends_on_rounding(&t.signature))
-        {
-            return Err(ModelError::BeamRounding { detail });
+        // The one rule (pair terms always; never decided by the rounding of a beam component).
+        let mut kept = Vec::with_capacity(terms.len());
+        for t in terms {
+            if exp.passes_geometry(&t.signature)? {
+                kept.push(t);
+            }
         }
-        terms.retain(|t| t.signature.weight() <= 2 || exp.is_phase_matched(&t.signature));
+        terms = kept;
     }
     terms.sort_by(|a, b| {
         (a.order.cmp(&b.order))

@@ -75,3 +75,14 @@ def test_a_shaper_is_needed_for_masks(carbonyl, carbonyl_cycle):
         pathsieve.masks(carbonyl, carbonyl_cycle)
     with pytest.raises(pathsieve.PathsieveError, match="shaper.toml"):
         pathsieve.masks(carbonyl, carbonyl_cycle, shaper_toml="[calibration]\nkind = 3\n")
+
+
+def test_arrays_beyond_the_file_limits_are_refused_before_they_are_read(dye):
+    # The limits of a cycle file (src/limits.rs): at most 12 fields, 1,000,000 steps and
+    # 4,000,000 cells (steps x (phase columns + weight columns)), checked from the shapes.
+    with pytest.raises(pathsieve.PathsieveError, match="at most 12 fields"):
+        pathsieve.check(dye, np.zeros((4, 13)))
+    with pytest.raises(pathsieve.PathsieveError, match="1000001 rows"):
+        pathsieve.check(dye, np.zeros((1_000_001, 3)))
+    with pytest.raises(pathsieve.PathsieveError, match="limit of 4000000 cells"):
+        pathsieve.check(dye, np.zeros((1_000_000, 4)), np.zeros((1_000_000, 1), complex), outputs=["R"])
