@@ -489,6 +489,9 @@ fn finish(
     } else {
         let listed: Vec<String> = files.iter().map(|(p, _)| p.display().to_string()).collect();
         eprintln!("wrote {}", listed.join(", "));
+        for o in &summary.outputs {
+            eprintln!("{}", leak_line(o));
+        }
         for n in &summary.notes {
             eprintln!("note: {n}");
         }
@@ -556,4 +559,23 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
     pathsieve::safe_write::write_many_atomic(&files, a.force)?;
     bar.finish_and_clear();
     finish(&a, &files, &summary, leaks)
+}
+
+/// One line per output: how far the as-measured output is from the ideal one.
+fn leak_line(o: &simulate_summary::OutputSummary) -> String {
+    let pct = |x: f64| format!("{:.3} %", 100.0 * x);
+    match (o.leak_relative, o.spectrum_leak_relative) {
+        (Some(t), Some(f)) => format!(
+            "output {}: as measured minus ideal peaks at {} of the ideal's peak in the time domain (every frequency), {} in the spectrum window",
+            o.name,
+            pct(t),
+            pct(f)
+        ),
+        (Some(t), None) => format!(
+            "output {}: as measured minus ideal peaks at {} of the ideal's peak in the time domain (every frequency)",
+            o.name,
+            pct(t)
+        ),
+        _ => format!("output {}: ideal signal only (no cycle given)", o.name),
+    }
 }
