@@ -259,6 +259,73 @@ fn dash_is_stdin_and_stdout_and_multi_file_outputs_refuse_it() {
     assert_eq!(code, 0, "{err}");
 }
 
+/// `-` for the remaining file arguments: a picture of `draw` on stdout (not with `--png`, which
+/// needs a name), and the phase list `combine --export` checks the step order against, from
+/// stdin in either text format the export writes (JSON or CSV).
+#[test]
+fn draw_writes_to_stdout_and_combine_reads_its_export_from_stdin() {
+    let (code, svg, err) = run_stdin(
+        &[
+            "draw",
+            "wheels",
+            "schemes/carbonyl-2x2.cycle.toml",
+            "--out",
+            "-",
+        ],
+        b"",
+    );
+    assert_eq!(code, 0, "{err}");
+    assert!(String::from_utf8_lossy(&svg).contains("<svg"));
+    let (code, out, err) = run_stdin(
+        &[
+            "draw",
+            "wheels",
+            "schemes/carbonyl-2x2.cycle.toml",
+            "--out",
+            "-",
+            "--png",
+        ],
+        b"",
+    );
+    assert!(
+        code == 2 && out.is_empty() && err.contains("--png needs a file name"),
+        "{err}"
+    );
+    let (exp, cyc) = (
+        "schemes/carbonyl-pump-probe.toml",
+        "schemes/carbonyl-2x2.cycle.toml",
+    );
+    let dir = tempfile::tempdir().unwrap();
+    // Four steps of data, one sample each (the values do not matter for the order check).
+    let data = dir.path().join("steps.csv");
+    std::fs::write(&data, "1\n2\n3\n4\n").unwrap();
+    for fmt in ["csv", "json"] {
+        let (code, list, err) = run_stdin(
+            &[
+                "export", exp, cyc, "--format", fmt, "--order", "drift", "--out", "-",
+            ],
+            b"",
+        );
+        assert_eq!(code, 0, "{err}");
+        let out = dir.path().join(format!("combined-{fmt}.csv"));
+        let (code, _, err) = run_stdin(
+            &[
+                "combine",
+                exp,
+                cyc,
+                data.to_str().unwrap(),
+                "--export",
+                "-",
+                "--out",
+                out.to_str().unwrap(),
+            ],
+            &list,
+        );
+        assert_eq!(code, 0, "{fmt}: {err}");
+        assert!(out.exists(), "{fmt}");
+    }
+}
+
 #[test]
 fn completions_man_and_help_with_examples_and_exit_codes() {
     for shell in ["bash", "zsh", "fish", "powershell", "elvish"] {

@@ -45,7 +45,7 @@ enum Picture {
         /// Add each pathway's complex-conjugate partner (emission and pump-probe detection).
         #[arg(long)]
         conjugates: bool,
-        /// Output SVG file.
+        /// Output SVG file (`-`: standard output).
         #[arg(long, value_name = "OUT.svg")]
         out: PathBuf,
         /// Overwrite an existing file.
@@ -62,7 +62,7 @@ enum Picture {
         cycle: PathBuf,
         #[command(flatten)]
         rejection: RejectionArgs,
-        /// Output SVG file.
+        /// Output SVG file (`-`: standard output).
         #[arg(long, value_name = "OUT.svg")]
         out: PathBuf,
         /// Overwrite an existing file.
@@ -77,7 +77,7 @@ enum Picture {
     Wheels {
         /// Cycle table (TOML or CSV).
         cycle: PathBuf,
-        /// Output SVG file.
+        /// Output SVG file (`-`: standard output).
         #[arg(long, value_name = "OUT.svg")]
         out: PathBuf,
         /// Overwrite an existing file.
@@ -192,5 +192,9 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
 
 /// The targets as borrowed paths for `check_targets`.
 fn paths(targets: &[PathBuf]) -> Vec<&std::path::Path> {
-    targets.iter().map(PathBuf::as_path).collect()
+    targets
+        .iter()
+        .map(PathBuf::as_path)
+        .filter(|p| !super::stdio::is_dash(p))
+        .collect()
 }

@@ -1,5 +1,5 @@
-//! Writing a picture of `draw`: the SVG at `--out`, and with `--png` a PNG beside it (the same
-//! name with `.png`), rendered in pure Rust with the bundled font. Both files are checked
+//! Writing a picture of `draw`: the SVG at `--out` (`-`: standard output), and with `--png` a
+//! PNG beside it (the same name with `.png`), rendered in pure Rust with the bundled font. Both files are checked
 //! before any work and written together (`safe_write::write_many_atomic`): neither appears
 //! half-written, and a PNG that cannot be rendered stops the SVG too.
 
@@ -29,6 +29,12 @@ impl PngArgs {
         let is_png = out
             .extension()
             .is_some_and(|e| e.eq_ignore_ascii_case("png"));
+        if super::stdio::is_dash(out) {
+            if self.png {
+                bail!("--out - writes the SVG to standard output; --png needs a file name (give --out OUT.svg)");
+            }
+            return Ok(vec![out.to_path_buf()]);
+        }
         if is_png {
             bail!(
                 "--out {} names the SVG file; give OUT.svg and add --png to get OUT.png beside it",
@@ -60,6 +66,10 @@ pub fn write_picture(
     force: bool,
     what: &str,
 ) -> anyhow::Result<()> {
+    if super::stdio::is_dash(&targets[0]) {
+        super::output::print(svg)?;
+        return Ok(());
+    }
     let mut files = vec![(targets[0].clone(), svg.as_bytes().to_vec())];
     if let Some(path) = targets.get(1) {
         files.push((path.clone(), render_png(svg, png.png_scale)?));

@@ -298,12 +298,23 @@ pub fn read_phase_list_json(text: &str, path: &Path) -> Result<Cycle, InputError
 /// # Errors
 /// [`InputError`] naming the file for unreadable or malformed input.
 pub fn read_phase_list_file(path: &Path) -> Result<(Cycle, ExportMeta), InputError> {
-    let ext = path
+    let mut ext = path
         .extension()
         .and_then(|e| e.to_str())
         .unwrap_or("")
         .to_ascii_lowercase();
     let bad = |m: String| InputError::new(path, None, None, m);
+    if path.as_os_str() == "-" {
+        // Standard input: a JSON export starts with `{`, anything else is read as CSV/TSV (an
+        // NPY export needs its sidecar beside it, so it cannot come through a pipe).
+        let text = crate::input_text::read_text(path)?;
+        ext = if text.trim_start().starts_with('{') {
+            "json"
+        } else {
+            "csv"
+        }
+        .into();
+    }
     match ext.as_str() {
         "csv" | "tsv" | "txt" => {
             let text = crate::input_text::read_text(path)?;
