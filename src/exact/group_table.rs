@@ -27,9 +27,9 @@ pub struct GroupTable {
     generators: Vec<(Vec<i64>, i64)>,
 }
 
-/// Tables with more rows than this are not examined (the hash map would cost more memory than
-/// the sum it saves is worth checking for).
-const MAX_ROWS: usize = 1 << 20;
+/// Tables with more rows than this are not examined: the proof keeps about three copies of the
+/// rows in hash tables (tens of MiB at this size), and larger tables take the usual sum.
+const MAX_ROWS: usize = 1 << 18;
 
 impl GroupTable {
     /// Proves the structure of a table with phase numerators `rows` (each in `[0, order)`) and
