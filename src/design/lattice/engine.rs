@@ -178,7 +178,10 @@ impl Engine {
                 y[i] = acc.rem_euclid(g.inv[i]);
             }
         };
-        let mut fimg: Vec<i64> = vec![0; forb.len() * r];
+        // Filled lazily (`have` gates every read), so a reused buffer needs no zeroing: at the
+        // last level this saved a memset of |forb| x r words per prefix.
+        let mut images = ImageScratch::take(k, forb.len() * r);
+        let fimg = &mut images.buf;
         let mut have = vec![false; forb.len()];
         let mut solve_cache: Vec<Option<SolveRow>> = Vec::new();
         let strides: Vec<usize> = g
@@ -428,4 +431,51 @@ fn mod_inverse(a: i64, m: i64) -> i64 {
         (old_s, s) = (s, old_s - q * s);
     }
     old_s.rem_euclid(m)
+}
+
+thread_local! {
+    /// Per-level buffers for the forbidden differences' images, reused across the prefixes a
+    /// worker thread visits.
+    static IMAGE_BUFFERS: std::cell::RefCell<Vec<Vec<i64>>> = const { std::cell::RefCell::new(Vec::new()) };
+}
+
+/// A level's image buffer, taken from the thread's pool and given back on drop (also on the
+/// early returns of a cancelled search).
+struct ImageScratch {
+    level: usize,
+    buf: Vec<i64>,
+}
+
+impl ImageScratch {
+    fn take(level: usize, len: usize) -> ImageScratch {
+        let mut buf = IMAGE_BUFFERS
+            .try_with(|c| {
+                c.try_borrow_mut().ok().and_then(|mut pool| {
+                    if pool.len() <= level {
+                        pool.resize_with(level + 1, Vec::new);
+                    }
+                    Some(std::mem::take(&mut pool[level]))
+                })
+            })
+            .ok()
+            .flatten()
+            .unwrap_or_default();
+        if buf.len() < len {
+            buf.resize(len, 0);
+        }
+        ImageScratch { level, buf }
+    }
+}
+
+impl Drop for ImageScratch {
+    fn drop(&mut self) {
+        let buf = std::mem::take(&mut self.buf);
+        let _ = IMAGE_BUFFERS.try_with(|c| {
+            if let Ok(mut pool) = c.try_borrow_mut() {
+                if let Some(slot) = pool.get_mut(self.level) {
+                    *slot = buf;
+                }
+            }
+        });
+    }
 }
