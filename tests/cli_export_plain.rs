@@ -347,6 +347,18 @@ fn completions_man_and_help_with_examples_and_exit_codes() {
     assert_eq!(code, 0);
     assert!(out.contains("pathsieve\\-check") || out.contains("pathsieve-check"));
     assert_eq!(run(&["man", "nosuch"]).0, 2);
+    for sub in ["diagrams", "leakage", "wheels", "spectrum"] {
+        let (code, out, _) = run(&["draw", sub, "--help"]);
+        assert_eq!(code, 0);
+        assert!(
+            out.contains("Example") && out.contains("Exit codes"),
+            "draw {sub}: {out}"
+        );
+        assert!(
+            out.lines().all(|l| l.chars().count() <= 80),
+            "draw {sub}: {out}"
+        );
+    }
     for cmd in [
         "pathways", "agnostic", "design", "check", "export", "combine", "draw",
     ] {

@@ -28,6 +28,7 @@ pub struct DrawArgs {
 #[derive(Subcommand, Debug)]
 enum Picture {
     /// A sheet of double-sided diagrams of the signal pathways with one signature or class.
+    #[command(after_help = super::help::DRAW_DIAGRAMS)]
     Diagrams {
         /// Experiment file (TOML).
         experiment: PathBuf,
@@ -55,6 +56,7 @@ enum Picture {
         png: PngArgs,
     },
     /// |F| of every rejected term on a log axis, grouped by order, wanted terms marked.
+    #[command(after_help = super::help::DRAW_LEAKAGE)]
     Leakage {
         /// Experiment file (TOML).
         experiment: PathBuf,
@@ -74,6 +76,7 @@ enum Picture {
     /// The 2D spectrum of one output of a `pathsieve simulate` run.
     Spectrum(super::draw_spectrum_cmd::SpectrumArgs),
     /// One phase wheel per field, with the phases it visits.
+    #[command(after_help = super::help::DRAW_WHEELS)]
     Wheels {
         /// Cycle table (TOML or CSV).
         cycle: PathBuf,
@@ -138,7 +141,11 @@ pub fn run(a: DrawArgs) -> anyhow::Result<u8> {
                 if rows.len() == 1 { "" } else { "s" }
             );
             let svg = diagram_svg::diagrams_svg(&exp, &rows, &title);
-            let what = format!("{} diagrams", rows.len());
+            let what = format!(
+                "{} diagram{}",
+                rows.len(),
+                if rows.len() == 1 { "" } else { "s" }
+            );
             write_picture(&targets, &svg, &png, force, &what)?;
         }
         Picture::Leakage {

@@ -28,10 +28,12 @@ pub enum Shown {
 /// Arguments of `pathsieve draw spectrum`.
 #[derive(Args, Debug)]
 #[command(
-    after_help = "Example:\n  pathsieve simulate scheme.toml cycle.toml --delay t1=0:4:800 --delay t3=0:4:800 --out run.npz\n  pathsieve draw spectrum run.npz --output absorptive --out absorptive.svg --png\n\n\
+    after_help = "Example:\n  pathsieve simulate scheme.toml cycle.toml --out run.npz \\\n      --delay t1=0:4:800 --delay t3=0:4:800\n  pathsieve draw spectrum run.npz --output absorptive \\\n      --out absorptive.svg --png\n\n\
 Excitation w1 (from t1) is the vertical axis, detection w3 (from the last delay) the horizontal \
 one, both in the run's axis unit (its metadata: axis_unit). Every panel shares the colour scale \
-of the first (the ideal spectrum); a panel beyond it says so in its caption."
+of the first (the ideal spectrum); a panel beyond it says so in its caption.\n\n\
+Exit codes:\n  0    written\n  2    usage or input error, or a limit exceeded (nothing written)\n  \
+130  interrupted by Ctrl-C or SIGTERM (nothing written, temporaries removed)"
 )]
 pub struct SpectrumArgs {
     /// The `--out` of a `pathsieve simulate` run: RUN.npz, or RUN.npy for one file per array

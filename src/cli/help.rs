@@ -106,6 +106,31 @@ pub const DRAW: &str = concat!(
     exit_codes!("written")
 );
 
+/// `draw diagrams`.
+pub const DRAW_DIAGRAMS: &str = concat!(
+    "Example:\n  pathsieve draw diagrams scheme.toml --class R --out r.svg --png\n  \
+pathsieve draw diagrams scheme.toml --signature=-1,1,1,-1 --out t.svg\n\n",
+    dash!(),
+    "\n",
+    exit_codes!("written")
+);
+
+/// `draw leakage`.
+pub const DRAW_LEAKAGE: &str = concat!(
+    "Example:\n  pathsieve draw leakage scheme.toml cycle.toml --out leakage.svg --png\n\n",
+    dash!(),
+    "\n",
+    exit_codes!("written")
+);
+
+/// `draw wheels`.
+pub const DRAW_WHEELS: &str = concat!(
+    "Example:\n  pathsieve draw wheels cycle.toml --out wheels.svg --png\n\n",
+    dash!(),
+    "\n",
+    exit_codes!("written")
+);
+
 /// `completions`.
 pub const COMPLETIONS: &str = "Example:\n  pathsieve completions bash \\\n      \
 > ~/.local/share/bash-completion/completions/pathsieve\n  \
