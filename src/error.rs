@@ -3,14 +3,16 @@
 use std::path::PathBuf;
 use thiserror::Error;
 
-/// An error in an input file, located by file, line and key.
+/// An error in an input file, located by file, line (and column where known) and key.
 #[derive(Debug, Clone, PartialEq, Eq, Error)]
-#[error("{}{}: {}{}", file.display(), line.map(|l| format!(":{l}")).unwrap_or_default(), key.as_ref().map(|k| format!("`{k}`: ")).unwrap_or_default(), message)]
+#[error("{}{}{}: {}{}", file.display(), line.map(|l| format!(":{l}")).unwrap_or_default(), column.filter(|_| line.is_some()).map(|c| format!(":{c}")).unwrap_or_default(), key.as_ref().map(|k| format!("`{k}`: ")).unwrap_or_default(), message)]
 pub struct InputError {
     /// The file.
     pub file: PathBuf,
     /// 1-based line, when known.
     pub line: Option<usize>,
+    /// 1-based column (in characters) on that line, when known.
+    pub column: Option<usize>,
     /// The key or column at fault, when known.
     pub key: Option<String>,
     /// What is wrong and how to fix it.
@@ -28,9 +30,16 @@ impl InputError {
         InputError {
             file: file.into(),
             line,
+            column: None,
             key: key.map(str::to_string),
             message: message.into(),
         }
+    }
+
+    /// The same error located at a 1-based column of its line.
+    pub fn at_column(mut self, column: usize) -> Self {
+        self.column = Some(column);
+        self
     }
 }
 

@@ -126,22 +126,52 @@ impl Ctx<'_> {
             + 1
     }
 
+    /// 1-based column (in characters) of a byte offset on its line.
+    fn column_of(&self, offset: usize) -> usize {
+        let before = &self.text.as_bytes()[..offset.min(self.text.len())];
+        let start = before
+            .iter()
+            .rposition(|&c| c == b'\n')
+            .map_or(0, |i| i + 1);
+        String::from_utf8_lossy(&before[start..]).chars().count() + 1
+    }
+
     fn err(&self, span: std::ops::Range<usize>, key: &str, msg: impl Into<String>) -> InputError {
         InputError::new(&self.path, Some(self.line_of(span.start)), Some(key), msg)
+            .at_column(self.column_of(span.start))
     }
 
     fn toml_error(&self, e: &toml::de::Error) -> InputError {
         let line = e.span().map(|s| self.line_of(s.start));
-        let msg = e.message().trim().to_string();
-        let key = msg.split('`').nth(1).map(str::to_string);
+        let column = e.span().map(|s| self.column_of(s.start));
+        // Rust type names mean nothing to a lab: say what to write instead.
+        let msg = e
+            .message()
+            .trim()
+            .replace("expected f64", "expected a number")
+            .replace("expected i64", "expected a whole number")
+            .replace("expected u32", "expected a whole number")
+            .replace("expected u64", "expected a whole number");
+        let names_key = msg.starts_with("unknown field") || msg.starts_with("missing field");
+        let key = names_key
+            .then(|| msg.split('`').nth(1).map(str::to_string))
+            .flatten();
         let hint = if msg.starts_with("unknown field") {
             "; remove or rename the key (see docs/experiment-format.md)"
         } else if msg.starts_with("missing field") {
             "; add the key (see docs/experiment-format.md)"
+        } else if msg.starts_with("invalid type: string") {
+            "; write the value without quotes"
+        } else if msg.starts_with("expected") || msg.starts_with("invalid") {
+            "; TOML syntax at that point: one `key = value` per line, no trailing commas, strings in double quotes"
         } else {
             ""
         };
-        InputError::new(&self.path, line, key.as_deref(), format!("{msg}{hint}"))
+        let err = InputError::new(&self.path, line, key.as_deref(), format!("{msg}{hint}"));
+        match column {
+            Some(c) => err.at_column(c),
+            None => err,
+        }
     }
 }
 
