@@ -346,9 +346,13 @@ fn spectrum_parts(
     Ok(Some((fixed, at_label, window)))
 }
 
+/// Most points per coherence axis the automatic zero padding uses (a spectrum's size limit).
+const MAX_AUTO_PAD: f64 = 2048.0;
+
 /// Points per coherence axis for about 150 frequency bins across the window (a power of two,
-/// at most 2048 so that a spectrum stays within its limit).
-fn auto_pad(grid: &DelayGrid, window: [f64; 2], unit: EnergyUnit) -> usize {
+/// at most [`MAX_AUTO_PAD`]), and the bins across the window actually reached when that cap
+/// binds.
+fn auto_pad(grid: &DelayGrid, window: [f64; 2], unit: EnergyUnit) -> (usize, Option<f64>) {
     let bin = unit.to_angular((window[1] - window[0]) / 150.0);
     let n = grid.axes.len();
     let need = [&grid.axes[0], &grid.axes[n - 1]]
@@ -356,7 +360,11 @@ fn auto_pad(grid: &DelayGrid, window: [f64; 2], unit: EnergyUnit) -> usize {
         .filter_map(|a| a.step())
         .map(|dt| (std::f64::consts::TAU / (dt * bin)).ceil())
         .fold(1.0, f64::max);
-    (need.min(2048.0) as usize).next_power_of_two()
+    let capped = (need > MAX_AUTO_PAD).then(|| 150.0 * MAX_AUTO_PAD / need);
+    (
+        (need.min(MAX_AUTO_PAD) as usize).next_power_of_two(),
+        capped,
+    )
 }
 
 fn check_numbers(a: &SimulateArgs) -> anyhow::Result<()> {
@@ -537,6 +545,17 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
         summary.notes.push("an output keeps both t and -t (real signal) in a rotating frame: the conjugate half lies mirrored about the frame, at 2 x frame - w; keep the frame below the band by more than its width, or use --frame 0 (docs/simulate.md)".into());
     }
     bar.set_message("computing the spectra");
+    let pad = match (a.pad, &parts) {
+        (Some(p), _) => p,
+        (None, Some((_, _, window))) => {
+            let (p, capped) = auto_pad(&grid, *window, unit);
+            if let Some(bins) = capped {
+                summary.notes.push(format!("zero padding stops at {MAX_AUTO_PAD} points per axis: about {bins:.0} frequency bins across the window instead of 150 (the bins span the whole band the time step resolves); a rotating frame near the band (--frame) or a coarser time step gives finer bins"));
+            }
+            p
+        }
+        (None, None) => 0,
+    };
     let setup = parts
         .as_ref()
         .map(|(fixed, at_label, window)| simulate_files::SpectrumSetup {
@@ -544,7 +563,7 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
             fixed: fixed.clone(),
             unit,
             frame_in_unit: unit.from_angular(dyn_.energy_unit.to_angular(a.frame)),
-            pad: a.pad.unwrap_or_else(|| auto_pad(&grid, *window, unit)),
+            pad,
             window: *window,
             title: &exp.title,
             at_label: at_label.clone(),

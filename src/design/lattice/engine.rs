@@ -450,11 +450,11 @@ impl ImageScratch {
     fn take(level: usize, len: usize) -> ImageScratch {
         let mut buf = IMAGE_BUFFERS
             .try_with(|c| {
-                c.try_borrow_mut().ok().and_then(|mut pool| {
+                c.try_borrow_mut().ok().map(|mut pool| {
                     if pool.len() <= level {
                         pool.resize_with(level + 1, Vec::new);
                     }
-                    Some(std::mem::take(&mut pool[level]))
+                    std::mem::take(&mut pool[level])
                 })
             })
             .ok()
