@@ -486,7 +486,7 @@ fn leak_list(scene: &mut Scene, s: &LeakageSeries, (left, y): (f64, f64), plot_w
         .take(MAX_LABELS)
         .map(|t| {
             let conj = if t.kind == TermKind::Conjugate {
-                "(conj.)"
+                " (conj.)"
             } else {
                 ""
             };
