@@ -74,7 +74,9 @@ pub fn parse_delays(text: &str, unit_fs: f64) -> Result<Vec<f64>, String> {
             .parse::<f64>()
             .ok()
             .filter(|x| x.is_finite() && *x >= 0.0)
-            .ok_or_else(|| format!("`{s}` is not a delay >= 0"))
+            .ok_or_else(|| {
+                format!("`{s}` is not a delay >= 0: write plain numbers (fs) inside START:STEP:STOP and one unit suffix at the end of the whole value (`fs` or `ps`, e.g. t1=0:4:1500 or t2=0:0.1:2ps)")
+            })
     };
     let times: Vec<f64> = if text.contains(':') {
         let parts: Vec<&str> = text.split(':').collect();
