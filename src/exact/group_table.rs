@@ -27,8 +27,8 @@ pub struct GroupTable {
     generators: Vec<(Vec<i64>, i64)>,
 }
 
-/// Tables with more rows than this are not examined: the proof keeps about three copies of the
-/// rows in hash tables (tens of MiB at this size), and larger tables take the usual sum.
+/// Tables with more rows than this are not examined: the proof keeps the rows in two hash
+/// tables (tens of MiB at this size), and larger tables take the usual sum.
 const MAX_ROWS: usize = 1 << 18;
 
 impl GroupTable {
@@ -54,20 +54,16 @@ impl GroupTable {
                 .get(r)
                 .map(|&m| (shifts[m] as i64 - chi0).rem_euclid(l))
         };
-        let mut group: Vec<(Vec<i64>, i64)> = vec![(zero, 0)];
-        let mut member: std::collections::HashSet<Vec<i64>> = std::collections::HashSet::new();
-        member.insert(group[0].0.clone());
+        // Every element rebuilt so far with chi of it.
+        let mut group: HashMap<Vec<i64>, i64> = HashMap::from([(zero, 0)]);
         let mut generators = Vec::new();
         for r in rows {
-            if member.contains(*r) {
+            if group.contains_key(*r) {
                 continue;
             }
             let chi_s = chi_of(r)?;
-            let extended = extend(&group, &member, r, chi_s, l, &chi_of)?;
-            for (e, c) in &extended {
-                member.insert(e.clone());
-                group.push((e.clone(), *c));
-            }
+            let extended = extend(&group, r, chi_s, l, &chi_of)?;
+            group.extend(extended);
             generators.push((r.to_vec(), chi_s));
             if group.len() > rows.len() {
                 return None;
@@ -97,19 +93,17 @@ impl GroupTable {
 /// of `s` back in the old group) with `chi(g) + k chi(s)`, each checked against the table; and
 /// the closing relation `chi(r s) = r chi(s)`. `None` on any mismatch.
 fn extend(
-    group: &[(Vec<i64>, i64)],
-    member: &std::collections::HashSet<Vec<i64>>,
+    group: &HashMap<Vec<i64>, i64>,
     s: &[i64],
     chi_s: i64,
     l: i64,
     chi_of: &dyn Fn(&[i64]) -> Option<i64>,
 ) -> Option<Vec<(Vec<i64>, i64)>> {
-    let old: HashMap<&[i64], i64> = group.iter().map(|(e, c)| (e.as_slice(), *c)).collect();
     let mut multiple = s.to_vec();
     let mut k = 1i64;
     let mut out = Vec::new();
     loop {
-        if let Some(&c_old) = old.get(multiple.as_slice()) {
+        if let Some(&c_old) = group.get(&multiple) {
             // Closing relation: k s lies in the old group.
             return ((k * chi_s - c_old).rem_euclid(l) == 0).then_some(out);
         }
@@ -119,7 +113,7 @@ fn extend(
         for (g, c_g) in group {
             let e: Vec<i64> = g.iter().zip(&multiple).map(|(a, b)| (a + b) % l).collect();
             let want = (c_g + k * chi_s).rem_euclid(l);
-            if member.contains(&e) || chi_of(&e)? != want {
+            if group.contains_key(&e) || chi_of(&e)? != want {
                 return None;
             }
             out.push((e, want));
