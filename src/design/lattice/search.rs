@@ -22,7 +22,7 @@ use super::engine::{order_key, Engine, Sink};
 use super::enumerate::LatticeCounts;
 use super::hnf::Lattice;
 use super::problem::{normalise, LatticeProblem, Reduced};
-use super::seed::{korobov_seed, nested_seed};
+use super::seed::{greedy_nested_steps, korobov_seed, nested_seed};
 use super::DesignError;
 
 /// Progress report: the index being scanned and candidate rows tested so far.
@@ -311,9 +311,10 @@ fn scan(
 }
 
 /// The steps of the greedy nested cycle with no step cap (up to the absolute limit of
-/// 1e7), when the capped search found nothing.
+/// 1e7), when the capped search found nothing: the greedy pass alone, not the seed's branch
+/// and bound again.
 fn valid_above(engine: &Engine, cancel: &AtomicBool) -> Option<u64> {
-    nested_seed(engine, 10_000_000, cancel).map(|(l, _)| l.index())
+    greedy_nested_steps(engine, 10_000_000, cancel)
 }
 
 /// Up-front impossibility checks: identical signatures and grid aliasing.

@@ -23,26 +23,7 @@ pub(crate) fn nested_seed(
     cancel: &AtomicBool,
 ) -> Option<(Lattice, bool)> {
     let n = e.n;
-    // c_j must divide R_j: the gcd of the required differences' entries and M_j.
-    let mut rj = vec![0i64; n];
-    for (j, r) in rj.iter_mut().enumerate() {
-        for q in e.req.iter().flatten() {
-            *r = gcd(*r, q[j]);
-        }
-        if e.grid[j] > 0 {
-            *r = gcd(*r, e.grid[j] as i64);
-        }
-    }
-    let mut st = Nested {
-        e,
-        rj,
-        best: max_steps.saturating_add(1),
-        best_c: None,
-        nodes: 0,
-        work: 0,
-        stopped: false,
-        cancel,
-    };
+    let mut st = Nested::new(e, max_steps, cancel);
     // Greedy bound first, then the exact branch and bound.
     st.greedy();
     st.dfs(&mut Vec::new(), 1);
@@ -70,7 +51,38 @@ struct Nested<'a> {
     cancel: &'a AtomicBool,
 }
 
-impl Nested<'_> {
+/// Steps of the greedy nested cycle (smallest clean step count field by field) with at most
+/// `max_steps` steps: one pass over each level's differences, no branch and bound.
+pub(crate) fn greedy_nested_steps(e: &Engine, max_steps: u64, cancel: &AtomicBool) -> Option<u64> {
+    let mut st = Nested::new(e, max_steps, cancel);
+    st.greedy();
+    st.best_c.map(|_| st.best)
+}
+
+impl<'a> Nested<'a> {
+    fn new(e: &'a Engine, max_steps: u64, cancel: &'a AtomicBool) -> Nested<'a> {
+        // c_j must divide R_j: the gcd of the required differences' entries and M_j.
+        let mut rj = vec![0i64; e.n];
+        for (j, r) in rj.iter_mut().enumerate() {
+            for q in e.req.iter().flatten() {
+                *r = gcd(*r, q[j]);
+            }
+            if e.grid[j] > 0 {
+                *r = gcd(*r, e.grid[j] as i64);
+            }
+        }
+        Nested {
+            e,
+            rj,
+            best: max_steps.saturating_add(1),
+            best_c: None,
+            nodes: 0,
+            work: 0,
+            stopped: false,
+            cancel,
+        }
+    }
+
     fn allowed(&self, k: usize, c: u64) -> bool {
         let r = self.rj[k];
         if r != 0 && r % c as i64 != 0 {
