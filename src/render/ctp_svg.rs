@@ -3,8 +3,8 @@
 //! that holds its order between pulses and jumps at each pulse). One panel per pathway, laid
 //! out as a [`Scene`] with measured boxes, like the double-sided diagrams.
 
-use super::diagram_svg::{grid_columns, minus, sheet_width, title_block};
-use super::fonts::{ascent_descent, text_width, wrap};
+use super::diagram_svg::{grid_columns, header_block, line_h, sheet_width, title_block, HS};
+use super::fonts::{ascent_descent, text_width};
 use super::scene::{Anchor, Scene, Span};
 use crate::model::{Detection, Experiment};
 use crate::pathways::Pathway;
@@ -14,8 +14,6 @@ const PAD: f64 = 9.0;
 const ROW: f64 = 18.0;
 /// Narrowest interval between pulses.
 const MIN_SEG: f64 = 46.0;
-const HS: f64 = 12.0;
-const SS: f64 = 10.5;
 const LS: f64 = 10.0;
 const MIN_CELL_W: f64 = 200.0;
 const PATH: &str = "#1f5fa8";
@@ -76,11 +74,6 @@ pub fn ctp_scene(exp: &Experiment, pathways: &[Pathway], title: &str) -> Scene {
     scene
 }
 
-fn line_h(size: f64) -> f64 {
-    let (a, d) = ascent_descent(size);
-    a + d + 1.0
-}
-
 /// Pulse names, the grid of levels, the delay labels below it.
 fn body_h(g: &Grid) -> f64 {
     line_h(LS) + 14.0 + ROW * (2 * g.levels) as f64 + 12.0 + line_h(LS) + 4.0
@@ -122,20 +115,7 @@ fn grid_of(exp: &Experiment, pathways: &[Pathway]) -> Grid {
 }
 
 fn header(p: &Pathway, number: usize, width: f64) -> Vec<(f64, String)> {
-    let mut out: Vec<(f64, String)> = wrap(&format!("#{number}  p: {}", orders_text(p)), HS, width)
-        .into_iter()
-        .map(|l| (HS, l))
-        .collect();
-    out.extend(
-        wrap(
-            &format!("b = {}", minus(&p.signature.to_string())),
-            SS,
-            width,
-        )
-        .into_iter()
-        .map(|l| (SS, l)),
-    );
-    out
+    header_block(&format!("#{number}  p: {}", orders_text(p)), p, width)
 }
 
 fn panel(

@@ -24,8 +24,8 @@ const GAP_PAD: f64 = 7.0;
 /// Text sizes: element labels, arrow labels, header, signature, detection, title.
 const EL: f64 = 11.0;
 const KS: f64 = 11.0;
-const HS: f64 = 12.0;
-const SS: f64 = 10.5;
+pub(super) const HS: f64 = 12.0;
+pub(super) const SS: f64 = 10.5;
 const DS: f64 = 10.0;
 const TS: f64 = 15.0;
 /// Narrowest cell and widest sheet (columns are dropped beyond it).
@@ -184,17 +184,20 @@ fn header_lines(p: &Pathway, number: usize, width: f64) -> Vec<(f64, String)> {
         None => p.class.short().to_string(),
     };
     let conj = if p.conjugate { " (c.c.)" } else { "" };
-    let mut out: Vec<(f64, String)> = wrap(
-        &format!(
-            "#{number}  {class}{conj}  sign {}",
-            minus(&format!("{:+}", p.sign))
-        ),
-        HS,
-        width,
-    )
-    .into_iter()
-    .map(|l| (HS, l))
-    .collect();
+    let first = format!(
+        "#{number}  {class}{conj}  sign {}",
+        minus(&format!("{:+}", p.sign))
+    );
+    header_block(&first, p, width)
+}
+
+/// A cell's header: `first` wrapped in the header size, then the pathway's signature `b = ...`
+/// in the smaller size (shared with the coherence-transfer diagrams).
+pub(super) fn header_block(first: &str, p: &Pathway, width: f64) -> Vec<(f64, String)> {
+    let mut out: Vec<(f64, String)> = wrap(first, HS, width)
+        .into_iter()
+        .map(|l| (HS, l))
+        .collect();
     out.extend(
         wrap(
             &format!("b = {}", minus(&p.signature.to_string())),
@@ -226,7 +229,8 @@ fn detection_lines(exp: &Experiment, p: &Pathway, width: f64) -> Vec<String> {
     wrap(&text, DS, width)
 }
 
-fn line_h(size: f64) -> f64 {
+/// Height of one text line of `size` (ascent, descent and a point of leading).
+pub(super) fn line_h(size: f64) -> f64 {
     let (a, d) = ascent_descent(size);
     a + d + 1.0
 }
