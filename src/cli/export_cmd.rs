@@ -126,14 +126,7 @@ impl ExportArgs {
     /// The mask CSV of scan point `p` of `points` (`OUT.delayK.csv`, K zero-padded).
     pub fn delay_path(&self, p: usize, points: usize) -> PathBuf {
         let width = (points.max(1) - 1).to_string().len();
-        let stem = self
-            .out
-            .file_stem()
-            .map_or_else(String::new, |s| s.to_string_lossy().into_owned());
-        let ext = self
-            .out
-            .extension()
-            .map_or_else(|| "csv".to_string(), |e| e.to_string_lossy().into_owned());
+        let (stem, ext) = stem_and_ext(&self.out);
         self.out
             .with_file_name(format!("{stem}.delay{p:0width$}.{ext}"))
     }
@@ -146,14 +139,7 @@ impl ExportArgs {
 
     /// The per-field file of `field`: OUT's stem, the field, OUT's extension.
     pub fn field_path(&self, field: &str) -> PathBuf {
-        let stem = self
-            .out
-            .file_stem()
-            .map_or_else(String::new, |s| s.to_string_lossy().into_owned());
-        let ext = self
-            .out
-            .extension()
-            .map_or_else(|| "csv".to_string(), |e| e.to_string_lossy().into_owned());
+        let (stem, ext) = stem_and_ext(&self.out);
         let safe: String = field
             .chars()
             .map(|c| {
@@ -302,4 +288,16 @@ pub fn run(a: ExportArgs) -> anyhow::Result<u8> {
         eprintln!("warning: the cycle leaks (exact check); run `pathsieve check` for details");
     }
     Ok(0)
+}
+
+/// The stem of an output path and its extension (`csv` when it has none), for the names of the
+/// files derived from it.
+fn stem_and_ext(out: &Path) -> (String, String) {
+    let stem = out
+        .file_stem()
+        .map_or_else(String::new, |s| s.to_string_lossy().into_owned());
+    let ext = out
+        .extension()
+        .map_or_else(|| "csv".to_string(), |e| e.to_string_lossy().into_owned());
+    (stem, ext)
 }
