@@ -289,6 +289,26 @@ fn no_leak_line(scene: &mut Scene, exact: bool, (left, y): (f64, f64), plot_w: f
     y + 26.0
 }
 
+/// A band across the plot of height `h` with its name left of it, in the tick labels' place.
+fn labelled_band(
+    scene: &mut Scene,
+    (left, y): (f64, f64),
+    plot_w: f64,
+    h: f64,
+    fill: &str,
+    name: &str,
+) {
+    scene.rect(left, y, plot_w, h, fill, "#bbb");
+    scene.text(
+        left - 8.0,
+        y + h / 2.0 + 3.5,
+        TICK,
+        Anchor::End,
+        "#555",
+        name,
+    );
+}
+
 /// The band of terms with F = 0 (lost wanted terms too); returns the y below it.
 fn zero_band(
     scene: &mut Scene,
@@ -297,15 +317,7 @@ fn zero_band(
     (left, y): (f64, f64),
     plot_w: f64,
 ) -> f64 {
-    scene.rect(left, y, plot_w, BAND_H, "#f1f1ee", "#bbb");
-    scene.text(
-        left - 8.0,
-        y + BAND_H / 2.0 + 3.5,
-        TICK,
-        Anchor::End,
-        "#555",
-        "F = 0",
-    );
+    labelled_band(scene, (left, y), plot_w, BAND_H, "#f1f1ee", "F = 0");
     for (g, &(x, w)) in gs.iter().zip(columns) {
         let step = (w - 16.0) / g.terms.len().max(1) as f64;
         for (i, t) in g.terms.iter().enumerate().filter(|(_, t)| t.zero) {
@@ -360,15 +372,7 @@ fn off_scale_band(
     plot_w: f64,
     has_axis: bool,
 ) -> f64 {
-    scene.rect(left, y, plot_w, OFF_H, "#eef5ef", "#bbb");
-    scene.text(
-        left - 8.0,
-        y + OFF_H / 2.0 + 3.5,
-        TICK,
-        Anchor::End,
-        "#555",
-        "wanted",
-    );
+    labelled_band(scene, (left, y), plot_w, OFF_H, "#eef5ef", "wanted");
     let (x, w) = columns[0];
     let step = (w - 16.0) / gs[0].terms.len().max(1) as f64;
     for (i, t) in gs[0].terms.iter().enumerate() {
