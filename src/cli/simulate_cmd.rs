@@ -583,18 +583,15 @@ pub fn run(a: SimulateArgs) -> anyhow::Result<u8> {
 /// One line per output: how far the as-measured output is from the ideal one.
 fn leak_line(o: &simulate_summary::OutputSummary) -> String {
     let pct = |x: f64| format!("{:.3} %", 100.0 * x);
-    match (o.leak_relative, o.spectrum_leak_relative) {
-        (Some(t), Some(f)) => format!(
-            "output {}: as measured minus ideal peaks at {} of the ideal's peak in the time domain (every frequency), {} in the spectrum window",
-            o.name,
-            pct(t),
-            pct(f)
-        ),
-        (Some(t), None) => format!(
-            "output {}: as measured minus ideal peaks at {} of the ideal's peak in the time domain (every frequency)",
-            o.name,
-            pct(t)
-        ),
-        _ => format!("output {}: ideal signal only (no cycle given)", o.name),
-    }
+    let Some(t) = o.leak_relative else {
+        return format!("output {}: ideal signal only (no cycle given)", o.name);
+    };
+    let window = o.spectrum_leak_relative.map_or(String::new(), |f| {
+        format!(", {} in the spectrum window", pct(f))
+    });
+    format!(
+        "output {}: as measured minus ideal peaks at {} of the ideal's peak in the time domain (every frequency){window}",
+        o.name,
+        pct(t)
+    )
 }
