@@ -136,8 +136,9 @@ pub fn sublattice_count(dims: usize, index: u64) -> u128 {
     f[index as usize]
 }
 
-/// Largest index [`LatticeCounts`] tabulates (a table of this many floats).
-pub const MAX_COUNTED_INDEX: u64 = 1 << 22;
+/// Largest index [`LatticeCounts`] tabulates (building it holds about 20 bytes per index, 20 MiB
+/// here; above it progress shows no share).
+pub const MAX_COUNTED_INDEX: u64 = 1 << 20;
 
 /// Cumulative sublattice counts `C(x) = sum_{N < x} a_dims(N)` for `x` up to a limit, in
 /// floats: the measure by which a search's progress is estimated (the share of all lattices
