@@ -29,11 +29,13 @@
 mod classify;
 mod engine;
 pub mod enumerate;
+mod field_order;
 mod group;
 mod hnf;
 mod problem;
 mod search;
 mod seed;
+mod symmetry;
 #[cfg(test)]
 mod tests;
 

@@ -20,9 +20,11 @@ use rayon::prelude::*;
 
 use super::engine::{order_key, Engine, Sink};
 use super::enumerate::LatticeCounts;
+use super::field_order::{engine_order, permuted, restored, symmetries_in_order};
 use super::hnf::Lattice;
 use super::problem::{normalise, LatticeProblem, Reduced};
 use super::seed::{greedy_nested_steps, korobov_seed, nested_seed};
+use super::symmetry::field_symmetries;
 use super::DesignError;
 
 /// Progress report: the index being scanned and candidate rows tested so far.
@@ -166,12 +168,44 @@ fn run(
     if let Some(o) = impossible(problem, &red) {
         return Ok((o, vec![]));
     }
+    let symmetries = field_symmetries(problem.dims, &red.forb, &red.req, &problem.grid);
+    let order = engine_order(problem.dims, &symmetries);
+    if order.iter().enumerate().all(|(p, &j)| p == j) {
+        return run_in_order(problem, &red, symmetries, ctl, limit);
+    }
+    let inner = permuted(problem, &order);
+    let inner_syms = symmetries_in_order(&symmetries, &order);
+    let (outcome, found) = run_in_order(&inner, &inner.reduce(), inner_syms, ctl, limit)?;
+    let outcome = match outcome {
+        SearchOutcome::Found(d) => SearchOutcome::Found(design(
+            problem,
+            restored(&d.lattice, &order),
+            d.proven_minimal,
+            d.excluded_below,
+            d.lattices_tested,
+            d.nested_bound,
+        )),
+        other => other,
+    };
+    let found = found.iter().map(|l| restored(l, &order)).collect();
+    Ok((outcome, found))
+}
+
+/// The search proper, with the fields in the engine's order (`field_order`).
+fn run_in_order(
+    problem: &LatticeProblem,
+    red: &Reduced,
+    symmetries: Vec<Vec<usize>>,
+    ctl: &SearchControl,
+    limit: usize,
+) -> Result<(SearchOutcome, Vec<Lattice>), DesignError> {
     let engine = Engine::new(
         problem.dims,
         &red.forb,
         &red.req,
         &problem.grid,
         problem.max_phases_per_field,
+        symmetries,
     );
     let seeded = nested_seed(&engine, problem.max_steps, ctl.cancel);
     let nested_exact = seeded.as_ref().is_some_and(|s| s.1);
@@ -197,7 +231,7 @@ fn run(
     let cap = problem.max_steps + 1;
     let mut lo = 1u64;
     while lo < cap {
-        let mut hi = (lo * 2).min(cap);
+        let mut hi = lo.saturating_mul(2).min(cap);
         if let Some(l) = nested.as_ref().filter(|_| limit == 1 && nested_exact) {
             // The nested seed is valid: no need to look beyond its index.
             hi = hi.min(l.index() + 1).max(lo + 1);
@@ -236,7 +270,8 @@ fn run(
             return Ok((finish(l.clone(), true, lo, tested), vec![l.clone()]));
         }
         let before = tested;
-        let (found, t, cancelled) = scan(&engine, lo, hi, limit, ctl.cancel, &|part| {
+        let bound = best_n.unwrap_or(u64::MAX);
+        let (found, t, cancelled) = scan(&engine, (lo, hi, bound), limit, ctl.cancel, &|part| {
             report(part, before)
         });
         tested += t;
@@ -268,18 +303,18 @@ fn run(
     ))
 }
 
-/// Scans all lattices with index in `[lo, hi)`: returns up to `limit` valid ones of
+/// Scans all lattices with index in `[lo, hi)` and at most `bound` (the index of a valid
+/// design already known, so lattices above it cannot be the minimum): returns up to `limit` valid ones of
 /// the smallest index there, in engine order, the candidate count, and whether the
 /// scan was cancelled.
 fn scan(
     engine: &Engine,
-    lo: u64,
-    hi: u64,
+    (lo, hi, bound): (u64, u64, u64),
     limit: usize,
     cancel: &AtomicBool,
     on_task: &(dyn Fn(f64) + Sync),
 ) -> (Vec<Lattice>, u64, bool) {
-    let best = AtomicU64::new(u64::MAX);
+    let best = AtomicU64::new(bound);
     let split = if engine.n >= 3 { Some(2) } else { None };
     let mut top = Sink::new(limit, &best, cancel);
     top.split = split;

@@ -537,3 +537,93 @@ fn a_capped_search_names_a_valid_design_above_the_cap() {
         other => panic!("{other:?}"),
     }
 }
+
+/// Problems with a field symmetry built in: fields 0 and 1 are interchanged by closing the
+/// rejected set under the swap; the kept signature either has equal entries there (one output)
+/// or is paired with its swapped copy (two outputs the swap exchanges). Grids are equal on the
+/// swapped fields half of the time, so the symmetry is sometimes broken by the grid.
+fn symmetric_problem() -> impl Strategy<Value = LatticeProblem> {
+    (2usize..=3).prop_flat_map(|n| {
+        let v = proptest::collection::vec(-2i64..=2, n);
+        (
+            Just(n),
+            proptest::collection::vec(prop_oneof![Just(0u32), 2u32..=4], n),
+            any::<bool>(),
+            v.clone(),
+            proptest::collection::vec(v, 1..5),
+            any::<bool>(),
+        )
+            .prop_map(|(n, mut grid, same_grid, mut t, rejected, two_outputs)| {
+                let swap = |v: &[i64]| {
+                    let mut w = v.to_vec();
+                    w.swap(0, 1);
+                    w
+                };
+                if same_grid {
+                    grid[1] = grid[0];
+                }
+                let mut outputs = vec![OutputSpec {
+                    name: "a".into(),
+                    kept: vec![t.clone()],
+                }];
+                if two_outputs {
+                    outputs.push(OutputSpec {
+                        name: "b".into(),
+                        kept: vec![swap(&t)],
+                    });
+                } else {
+                    t[1] = t[0];
+                    outputs[0].kept = vec![t.clone()];
+                }
+                let mut all: Vec<Vec<i64>> =
+                    rejected.iter().flat_map(|b| [b.clone(), swap(b)]).collect();
+                all.sort();
+                all.dedup();
+                all.retain(|b| outputs.iter().all(|o| !o.kept.contains(b)));
+                LatticeProblem {
+                    dims: n,
+                    grid,
+                    outputs,
+                    rejected: all,
+                    max_steps: 40,
+                    max_phases_per_field: None,
+                }
+            })
+    })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(80))]
+    // Testing one lattice per symmetry orbit loses nothing: the minimal index equals the
+    // brute force over every sublattice, and every listed minimal lattice is valid.
+    #[test]
+    fn symmetry_reduced_search_agrees_with_brute_force(p in symmetric_problem()) {
+        let cancel = AtomicBool::new(false);
+        let out = search(&p, &SearchControl::new(&cancel)).unwrap();
+        let brute_min = (1..=p.max_steps).find(|&n| sublattices(p.dims, n).any(|l| is_valid(&p, &l)));
+        match out {
+            SearchOutcome::Found(d) => {
+                prop_assert!(d.proven_minimal);
+                prop_assert!(is_valid(&p, &d.lattice));
+                prop_assert_eq!(Some(d.steps), brute_min);
+                check_numerically(&p, &d);
+                let all = all_minimal(&p, 20, &SearchControl::new(&cancel)).unwrap();
+                prop_assert!(all.iter().all(|l| l.index() == d.steps && is_valid(&p, l)));
+            }
+            SearchOutcome::NotFound { .. } | SearchOutcome::Aliased { .. } | SearchOutcome::Inseparable { .. } => {
+                prop_assert_eq!(brute_min, None);
+            }
+        }
+    }
+}
+
+/// The agnostic ball around a signature with two equal entries has the swap of those fields
+/// as a symmetry, and the search finds it (so the orbit reduction is in use on such problems).
+#[test]
+fn the_agnostic_ball_around_a_symmetric_signature_has_the_swap() {
+    let p = ball_problem(3, 3, vec![1, 1, -2]);
+    let red = p.reduce();
+    let syms = super::symmetry::field_symmetries(3, &red.forb, &red.req, &p.grid);
+    assert!(syms.contains(&vec![1, 0, 2]), "{syms:?}");
+    assert!(syms.iter().all(|pi| pi[2] == 2), "{syms:?}");
+}
