@@ -176,50 +176,13 @@ impl Engine {
             sink.tasks.push(node.clone());
             return;
         }
-        let last = k + 1 == self.n;
-        let g = &node.grp;
-        let r = g.inv.len();
-        let forb = &self.forb[k];
-        // Images of the first k coordinates of the constraints (one reduction each;
-        // entries are at most 1e6 and images below N, so the i64 sums cannot overflow).
-        // The moduli are fixed per prefix: division by multiplication (this reduction was a
-        // fifth of the engine's time with hardware division).
-        let moduli: Vec<StrengthReducedU64> = g
-            .inv
-            .iter()
-            .map(|&s| StrengthReducedU64::new(s as u64))
-            .collect();
-        let image = |d: &[i64], y: &mut [i64]| {
-            for i in 0..r {
-                let mut acc: i64 = 0;
-                for (j, &dj) in d[..k].iter().enumerate() {
-                    acc += dj * g.img[j][i];
-                }
-                y[i] = reduce(acc, g.inv[i], moduli[i]);
-            }
-        };
-        // Filled lazily (`have` gates every read), so a reused buffer needs no zeroing: at the
-        // last level this saved a memset of |forb| x r words per prefix.
-        let mut images = ImageScratch::take(k, forb.len() * r);
-        let fimg = &mut images.buf;
-        let mut have = vec![false; forb.len()];
-        let mut solve_cache: Vec<Option<SolveRow>> = Vec::new();
-        let strides: Vec<usize> = g
-            .inv
-            .iter()
-            .scan(1usize, |acc, &s| {
-                let v = *acc;
-                *acc *= s as usize;
-                Some(v)
-            })
-            .collect();
-        let mut killed: Vec<bool> = vec![false; node.index as usize];
-        let mut any_killed = false;
+        let pre = Prefix::new(node);
+        let mut scratch = LevelScratch::take(k, self.forb[k].len(), node.index as usize);
         let qy: Vec<(i64, Vec<i64>)> = self.req[k]
             .iter()
             .map(|d| {
-                let mut y = vec![0; r];
-                image(d, &mut y);
+                let mut y = vec![0; pre.r];
+                pre.image(d, &mut y);
                 (d[k], y)
             })
             .collect();
@@ -228,14 +191,13 @@ impl Engine {
         } else {
             None
         };
-        let box_dims: Vec<i64> = (0..k).map(|j| node.rows[j][j]).collect();
         let top_index = |sink: &Sink| (hi - 1).min(sink.best.load(Ordering::Relaxed));
-        let d_min = if last {
+        let last = k + 1 == self.n;
+        let mut dd = if last {
             lo.div_ceil(node.index).max(1)
         } else {
             1
         };
-        let mut dd = d_min;
         while node.index * dd <= top_index(sink) {
             let d = dd as i64;
             dd += 1;
@@ -255,97 +217,91 @@ impl Engine {
             }
             let reqs: Vec<(i64, &[i64])> =
                 qy.iter().map(|(dk, y)| (dk / d, y.as_slice())).collect();
-            // Mark every class x with c x = y for a forbidden (c = d_k / D, y = [d']);
-            // stop as soon as every class is killed.
-            if any_killed {
-                killed.iter_mut().for_each(|v| *v = false);
-                any_killed = false;
-            }
-            let mut alive = killed.len();
-            'groups: for &(val, a, b) in &self.groups[k] {
-                if val % d != 0 {
-                    continue;
-                }
-                any_killed = true;
-                let c = val / d;
-                for i in a..b {
-                    if !have[i] {
-                        image(&forb[i], &mut fimg[i * r..(i + 1) * r]);
-                        have[i] = true;
-                    }
-                    let y = &fimg[i * r..(i + 1) * r];
-                    alive -= mark_solutions(&g.inv, &strides, c, y, &mut killed, &mut solve_cache);
-                    if alive == 0 {
-                        break 'groups;
-                    }
-                }
-            }
-            if alive == 0 {
-                sink.tested += killed.len() as u64;
+            if self.kill(&pre, d, &mut scratch.level) == 0 {
+                sink.tested += node.index;
                 continue;
             }
-            let mut h = vec![0i64; k];
-            let mut x = vec![0i64; r];
-            loop {
-                sink.tested += 1;
-                let idx: usize = x
-                    .iter()
-                    .zip(&strides)
-                    .map(|(&xi, &st)| xi as usize * st)
-                    .sum();
-                let ok = !killed[idx] && self.pre_accept(g, &x, d, &reqs);
-                let ords = if ok {
-                    self.representative(node, g, &x, d)
+            if !self.walk_box(&pre, d, &reqs, &scratch.level, (lo, hi), sink) {
+                return;
+            }
+        }
+    }
+
+    /// Marks every class x of the prefix group with `c x = y` for a forbidden difference
+    /// (`c = d_k / D`, `y = [d']`), stopping as soon as every class is killed; returns how
+    /// many classes are left.
+    fn kill(&self, pre: &Prefix, d: i64, level: &mut Level) -> usize {
+        let (k, r) = (pre.node.rows.len(), pre.r);
+        let forb = &self.forb[k];
+        level.next_divisor();
+        let mut alive = pre.node.index as usize;
+        for &(val, a, b) in &self.groups[k] {
+            if val % d != 0 {
+                continue;
+            }
+            let c = val / d;
+            for i in a..b {
+                let y = level.image(i, || &forb[i], pre);
+                alive -= mark_solutions(pre, c, &y[..r], level);
+                if alive == 0 {
+                    return 0;
+                }
+            }
+        }
+        alive
+    }
+
+    /// Walks the box of reduced off-diagonal entries for diagonal `d`, expanding every
+    /// candidate row that survives the kill marks and the row conditions; false when the
+    /// search was cancelled.
+    fn walk_box(
+        &self,
+        pre: &Prefix,
+        d: i64,
+        reqs: &[(i64, &[i64])],
+        level: &Level,
+        (lo, hi): (u64, u64),
+        sink: &mut Sink,
+    ) -> bool {
+        let node = pre.node;
+        let (k, r, g) = (node.rows.len(), pre.r, &node.grp);
+        let last = k + 1 == self.n;
+        let mut h = [0i64; 8];
+        let mut x = [0i64; 8];
+        loop {
+            sink.tested += 1;
+            let idx: usize = (0..r).map(|i| x[i] as usize * pre.strides[i]).sum();
+            let ok = level.alive(idx) && self.pre_accept(g, &x[..r], d, reqs);
+            let ords = if ok {
+                self.representative(node, g, &x[..r], d)
+            } else {
+                None
+            };
+            if let Some(ords) = ords {
+                let mut row = h[..k].to_vec();
+                row.push(d);
+                row.resize(self.n, 0);
+                let mut rows = node.rows.clone();
+                rows.push(row);
+                if last {
+                    if let Ok(l) = Lattice::from_hnf(rows) {
+                        sink.push(l);
+                    }
                 } else {
-                    None
-                };
-                if let Some(ords) = ords {
-                    let mut row = h.clone();
-                    row.push(d);
-                    row.resize(self.n, 0);
-                    let mut rows = node.rows.clone();
-                    rows.push(row);
-                    if last {
-                        if let Ok(l) = Lattice::from_hnf(rows) {
-                            sink.push(l);
-                        }
-                    } else {
-                        let grp = extend(g, &x, d);
-                        let child = Node {
-                            rows,
-                            grp,
-                            index: node.index * d as u64,
-                            ords,
-                        };
-                        self.dfs(&child, lo, hi, sink);
-                    }
-                    if sink.cancelled() {
-                        return;
-                    }
+                    let child = Node {
+                        rows,
+                        grp: extend(g, &x[..r], d),
+                        index: node.index * d as u64,
+                        ords,
+                    };
+                    self.dfs(&child, lo, hi, sink);
                 }
-                // Odometer over the box, keeping x = sum h_j img_j.
-                let mut j = k;
-                let mut done = true;
-                while j > 0 {
-                    j -= 1;
-                    h[j] += 1;
-                    for i in 0..r {
-                        // Both terms are below the modulus: one conditional subtraction.
-                        let v = x[i] + g.img[j][i];
-                        x[i] = if v >= g.inv[i] { v - g.inv[i] } else { v };
-                    }
-                    if h[j] < box_dims[j] {
-                        done = false;
-                        break;
-                    }
-                    for i in 0..r {
-                        x[i] = (x[i] - (box_dims[j] % g.inv[i]) * g.img[j][i]).rem_euclid(g.inv[i]);
-                    }
-                    h[j] = 0;
+                if sink.cancelled() {
+                    return false;
                 }
-                if done {
-                    break;
-                }
+            }
+            if !pre.next_in_box(&mut h, &mut x) {
+                return true;
             }
         }
     }
@@ -400,33 +356,20 @@ fn reduce(acc: i64, s: i64, modulus: StrengthReducedU64) -> i64 {
 /// Per component `(g, s / g, (c / g)^-1 mod s / g)` for one multiplier c.
 type SolveRow = [(i64, i64, i64); 8];
 
-/// Marks all `x` in `Z_{s_1} x ... x Z_{s_r}` with `c x = y` (componentwise) and
-/// returns how many were not marked before. `cache[c]` holds, per component,
-/// `(g, s / g, (c / g)^-1 mod s / g)` with `g = gcd(c, s)`.
-fn mark_solutions(
-    inv: &[i64],
-    strides: &[usize],
-    c: i64,
-    y: &[i64],
-    killed: &mut [bool],
-    cache: &mut Vec<Option<SolveRow>>,
-) -> usize {
-    let r = inv.len();
+/// Marks all `x` in `Z_{s_1} x ... x Z_{s_r}` with `c x = y` (componentwise) as killed for
+/// the current divisor and returns how many were alive before. `level.solve[c]` holds, per
+/// component, `(g, s / g, (c / g)^-1 mod s / g)` with `g = gcd(c, s)`.
+fn mark_solutions(pre: &Prefix, c: i64, y: &[i64], level: &mut Level) -> usize {
+    let (inv, strides, r) = (&pre.node.grp.inv, &pre.strides, pre.r);
     if c == 1 {
-        let idx: usize = y
-            .iter()
-            .zip(strides)
-            .map(|(&yi, &st)| yi as usize * st)
-            .sum();
-        let fresh = !killed[idx];
-        killed[idx] = true;
-        return usize::from(fresh);
+        let idx: usize = (0..r).map(|i| y[i] as usize * strides[i]).sum();
+        return usize::from(level.kill(idx));
     }
     let cu = c as usize;
-    if cache.len() <= cu {
-        cache.resize(cu + 1, None);
+    if level.solve.len() <= cu {
+        level.solve.resize(cu + 1, None);
     }
-    let tab = *cache[cu].get_or_insert_with(|| {
+    let tab = *level.solve[cu].get_or_insert_with(|| {
         let mut t = [(1i64, 1i64, 0i64); 8];
         for i in 0..r {
             let s = inv[i];
@@ -452,10 +395,7 @@ fn mark_solutions(
         let idx: usize = (0..r)
             .map(|i| (base[i] + t[i] * tab[i].1) as usize * strides[i])
             .sum();
-        if !killed[idx] {
-            killed[idx] = true;
-            fresh += 1;
-        }
+        fresh += usize::from(level.kill(idx));
         let mut i = 0;
         loop {
             if i == r {
@@ -486,47 +426,189 @@ fn mod_inverse(a: i64, m: i64) -> i64 {
     old_s.rem_euclid(m)
 }
 
+/// A prefix being expanded: its group's strides, moduli and HNF box.
+struct Prefix<'n> {
+    node: &'n Node,
+    /// Number of invariant factors of the prefix group (at most 7).
+    r: usize,
+    strides: [usize; 8],
+    /// The invariant factors as reciprocals: division by multiplication (this reduction was a
+    /// fifth of the engine's time with hardware division).
+    moduli: [StrengthReducedU64; 8],
+    box_dims: [i64; 8],
+}
+
+impl<'n> Prefix<'n> {
+    fn new(node: &'n Node) -> Prefix<'n> {
+        let inv = &node.grp.inv;
+        let mut strides = [0usize; 8];
+        let mut moduli = [StrengthReducedU64::new(1); 8];
+        let mut acc = 1usize;
+        for (i, &s) in inv.iter().enumerate() {
+            strides[i] = acc;
+            acc *= s as usize;
+            moduli[i] = StrengthReducedU64::new(s as u64);
+        }
+        let mut box_dims = [0i64; 8];
+        for (j, row) in node.rows.iter().enumerate() {
+            box_dims[j] = row[j];
+        }
+        Prefix {
+            node,
+            r: inv.len(),
+            strides,
+            moduli,
+            box_dims,
+        }
+    }
+
+    /// Image of the first k coordinates of `d` in the prefix group (entries are at most 1e6
+    /// and images below N, so the i64 sums cannot overflow).
+    #[inline]
+    fn image(&self, d: &[i64], y: &mut [i64]) {
+        let g = &self.node.grp;
+        let k = self.node.rows.len();
+        for i in 0..self.r {
+            let mut acc: i64 = 0;
+            for (j, &dj) in d[..k].iter().enumerate() {
+                acc += dj * g.img[j][i];
+            }
+            y[i] = reduce(acc, g.inv[i], self.moduli[i]);
+        }
+    }
+
+    /// Advances the odometer over the box, keeping `x = sum h_j img_j`; false after the
+    /// last box point.
+    fn next_in_box(&self, h: &mut [i64; 8], x: &mut [i64; 8]) -> bool {
+        let g = &self.node.grp;
+        let mut j = self.node.rows.len();
+        while j > 0 {
+            j -= 1;
+            h[j] += 1;
+            for i in 0..self.r {
+                // Both terms are below the modulus: one conditional subtraction.
+                let v = x[i] + g.img[j][i];
+                x[i] = if v >= g.inv[i] { v - g.inv[i] } else { v };
+            }
+            if h[j] < self.box_dims[j] {
+                return true;
+            }
+            for i in 0..self.r {
+                x[i] = (x[i] - (self.box_dims[j] % g.inv[i]) * g.img[j][i]).rem_euclid(g.inv[i]);
+            }
+            h[j] = 0;
+        }
+        false
+    }
+}
+
+/// One search level's buffers, reused across the prefixes a worker thread visits. Entries are
+/// valid when stamped with the current generation, so nothing is cleared between prefixes or
+/// divisors (at the last level that clearing and its allocations were a tenth of the time).
+#[derive(Default)]
+struct Level {
+    /// Images of the level's forbidden differences (the first `r` words), valid where `have`
+    /// holds the prefix generation; fixed-size rows copy without a call.
+    images: Vec<[i64; 8]>,
+    have: Vec<u32>,
+    have_gen: u32,
+    /// Classes killed for the current divisor: `killed[x] == kill_gen`.
+    killed: Vec<u32>,
+    kill_gen: u32,
+    /// Per multiplier c: the solving table of `c x = y` for this prefix.
+    solve: Vec<Option<SolveRow>>,
+}
+
+impl Level {
+    /// Readies the buffers for a new prefix.
+    fn start_prefix(&mut self, n_forb: usize, classes: usize) {
+        if self.images.len() < n_forb {
+            self.images.resize(n_forb, [0; 8]);
+        }
+        if self.have.len() < n_forb {
+            self.have.resize(n_forb, 0);
+        }
+        if self.killed.len() < classes {
+            self.killed.resize(classes, 0);
+        }
+        self.have_gen = next_generation(self.have_gen, &mut self.have);
+        self.solve.clear();
+    }
+
+    /// Forgets the kill marks of the previous divisor.
+    fn next_divisor(&mut self) {
+        self.kill_gen = next_generation(self.kill_gen, &mut self.killed);
+    }
+
+    fn alive(&self, idx: usize) -> bool {
+        self.killed[idx] != self.kill_gen
+    }
+
+    /// Kills class `idx`; true if it was alive.
+    fn kill(&mut self, idx: usize) -> bool {
+        let fresh = self.killed[idx] != self.kill_gen;
+        self.killed[idx] = self.kill_gen;
+        fresh
+    }
+
+    /// The image of forbidden difference `i` (computed on first use in this prefix).
+    fn image<'f>(&mut self, i: usize, diff: impl FnOnce() -> &'f [i64], pre: &Prefix) -> [i64; 8] {
+        if self.have[i] != self.have_gen {
+            pre.image(diff(), &mut self.images[i]);
+            self.have[i] = self.have_gen;
+        }
+        self.images[i]
+    }
+}
+
+/// The generation after `gen`; on wrap-around the stamps are cleared so no old stamp matches.
+fn next_generation(gen: u32, stamps: &mut [u32]) -> u32 {
+    if gen == u32::MAX {
+        stamps.iter_mut().for_each(|s| *s = 0);
+        1
+    } else {
+        gen + 1
+    }
+}
+
 thread_local! {
-    /// Per-level buffers for the forbidden differences' images, reused across the prefixes a
-    /// worker thread visits.
-    static IMAGE_BUFFERS: std::cell::RefCell<Vec<Vec<i64>>> = const { std::cell::RefCell::new(Vec::new()) };
+    /// Per-level buffers of the worker thread.
+    static LEVELS: std::cell::RefCell<Vec<Level>> = const { std::cell::RefCell::new(Vec::new()) };
 }
 
-/// A level's image buffer, taken from the thread's pool and given back on drop (also on the
-/// early returns of a cancelled search).
-struct ImageScratch {
-    level: usize,
-    buf: Vec<i64>,
+/// A level's buffers, taken from the thread's pool and given back on drop (also on the early
+/// returns of a cancelled search).
+struct LevelScratch {
+    depth: usize,
+    level: Level,
 }
 
-impl ImageScratch {
-    fn take(level: usize, len: usize) -> ImageScratch {
-        let mut buf = IMAGE_BUFFERS
+impl LevelScratch {
+    fn take(depth: usize, n_forb: usize, classes: usize) -> LevelScratch {
+        let mut level = LEVELS
             .try_with(|c| {
                 c.try_borrow_mut().ok().map(|mut pool| {
-                    if pool.len() <= level {
-                        pool.resize_with(level + 1, Vec::new);
+                    if pool.len() <= depth {
+                        pool.resize_with(depth + 1, Level::default);
                     }
-                    std::mem::take(&mut pool[level])
+                    std::mem::take(&mut pool[depth])
                 })
             })
             .ok()
             .flatten()
             .unwrap_or_default();
-        if buf.len() < len {
-            buf.resize(len, 0);
-        }
-        ImageScratch { level, buf }
+        level.start_prefix(n_forb, classes);
+        LevelScratch { depth, level }
     }
 }
 
-impl Drop for ImageScratch {
+impl Drop for LevelScratch {
     fn drop(&mut self) {
-        let buf = std::mem::take(&mut self.buf);
-        let _ = IMAGE_BUFFERS.try_with(|c| {
+        let level = std::mem::take(&mut self.level);
+        let _ = LEVELS.try_with(|c| {
             if let Ok(mut pool) = c.try_borrow_mut() {
-                if let Some(slot) = pool.get_mut(self.level) {
-                    *slot = buf;
+                if let Some(slot) = pool.get_mut(self.depth) {
+                    *slot = level;
                 }
             }
         });
