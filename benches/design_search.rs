@@ -133,6 +133,24 @@ fn main() {
             true,
             true,
         ),
+        agnostic(
+            "6 fields (5 cycled), fifth order + LO, R and NR",
+            &[vec![-1, 1, 1, -1, 1, -1], vec![1, -1, 1, -1, 1, -1]],
+            6,
+            true,
+            true,
+        ),
+        agnostic(
+            "6 fields (5 cycled), fifth order + LO, R, NR and 2Q",
+            &[
+                vec![-1, 1, 1, -1, 1, -1],
+                vec![1, -1, 1, -1, 1, -1],
+                vec![1, 1, -1, -1, 1, -1],
+            ],
+            6,
+            true,
+            true,
+        ),
     ];
     let only: Option<String> = std::env::args().nth(1).filter(|a| !a.starts_with('-'));
     println!("| scenario | N found | nested N | lattices tested | time (s) |");

@@ -20,7 +20,8 @@ pub enum Refusal {
     NoPhaseCycleAtAll,
     /// Terms equal modulo the phase grid: no cycle on this grid.
     NoCycleOnThisGrid,
-    /// Every lattice design within the limits was tested and fails.
+    /// Every lattice design within the limits was ruled out (tested, or the image of a tested one
+    /// under a symmetry of the problem).
     NoLatticeDesign {
         /// What could help.
         remedy: LimitRemedy,

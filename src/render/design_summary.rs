@@ -159,7 +159,7 @@ fn proof_text(r: &DesignReport) -> String {
         } else {
             ""
         };
-        format!(" Minimality is proven among lattice designs{layouts} (nested and cogwheel cycles included): every one with fewer steps was tested and fails; weighted non-lattice step sets are a separate class, searched only as far as the note below says.")
+        format!(" Minimality is proven among lattice designs{layouts} (nested and cogwheel cycles included): every one with fewer steps was ruled out (tested, or the image of a tested one under a symmetry of the problem); weighted non-lattice step sets are a separate class, searched only as far as the note below says.")
     } else {
         format!(" The search was interrupted: this design is NOT proven minimal; no lattice design has fewer than {} steps.", r.excluded_below)
     }
