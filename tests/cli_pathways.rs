@@ -317,3 +317,43 @@ fn conjugate_weight_sums_match_the_listed_pathways() {
         assert!((sums[&partner] + w).abs() < 1e-12, "{sig} vs {partner}");
     }
 }
+
+/// The pathway table of every bundled experiment fits 80 columns without breaking a header
+/// word or a signature across lines (common practice for terminal tables).
+#[test]
+fn the_pathway_table_fits_80_columns_without_broken_words() {
+    for entry in std::fs::read_dir(common::scheme("")).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().and_then(|e| e.to_str()) != Some("toml")
+            || path.to_string_lossy().ends_with(".cycle.toml")
+            || path.to_string_lossy().ends_with("-shaper.toml")
+        {
+            continue;
+        }
+        let (code, out, err) = run(&["pathways", path.to_str().unwrap()]);
+        assert_eq!(code, 0, "{}: {err}", path.display());
+        // The pathway table is the first one (the signature summary follows).
+        let table: Vec<&str> = out
+            .lines()
+            .skip_while(|l| !l.starts_with('┌'))
+            .take_while(|l| !l.starts_with('└'))
+            .collect();
+        assert!(!table.is_empty(), "{}: no table\n{out}", path.display());
+        for l in &table {
+            assert!(l.chars().count() <= 80, "{}: {l}", path.display());
+        }
+        let header = table[1];
+        for word in ["signature", "class", "sign", "weight"] {
+            assert!(header.contains(word), "{}: {header}", path.display());
+        }
+        // Every signature cell closes on its own line.
+        for l in table.iter().skip(3) {
+            let cell = l.split('┆').nth(1).unwrap_or("").trim();
+            assert!(
+                cell.is_empty() || (cell.starts_with('(') && cell.ends_with(')')),
+                "{}: {l}",
+                path.display()
+            );
+        }
+    }
+}

@@ -228,46 +228,25 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
         scope_text
     ));
     if !a.summary {
+        // Narrow columns first and the pathway itself last, on two or three lines (interactions,
+        // elements in the delays, the final element when it is not the last delay's): the table
+        // fits 80 columns without breaking words.
         let mut t = table(&[
             "#",
-            "interactions",
-            "elements in the delays",
-            "sign",
             "signature",
-            "k_s",
             "class",
-            "final",
+            "sign",
             "weight",
+            "interactions / elements",
         ]);
         for (i, p) in rows.iter().enumerate() {
-            let class = match p.population_class {
-                Some(pc) => format!("{} {}", p.class.short(), pc.short()),
-                None => p.class.short().to_string(),
-            };
-            let class = if p.conjugate {
-                format!("{class} c.c.")
-            } else {
-                class
-            };
-            let class = if p.time_ordered {
-                class
-            } else {
-                format!("{class} *")
-            };
             t.add_row(vec![
                 (i + 1).to_string(),
-                render::sequence_label(&exp, p),
-                render::delays_label(&exp, p),
-                format!("{:+}", p.sign),
                 p.signature.to_string(),
-                exp.signal_direction(&p.signature),
-                class,
-                if p.coherence_orders.is_empty() {
-                    render::element_label(&exp, &p.final_element)
-                } else {
-                    "-".into()
-                },
+                class_label(p),
+                format!("{:+}", p.sign),
                 format!("{:+.3}", p.weight),
+                pathway_cell(&exp, p),
             ]);
         }
         out.push_str(&format!("{t}\n"));
@@ -374,4 +353,38 @@ fn summary_table(s: &pathways::Summary) -> String {
             ""
         }
     )
+}
+
+/// The class column: class and population class, `c.c.` for a conjugate term, `*` for
+/// interactions out of pulse order.
+fn class_label(p: &Pathway) -> String {
+    let mut class = match p.population_class {
+        Some(pc) => format!("{} {}", p.class.short(), pc.short()),
+        None => p.class.short().to_string(),
+    };
+    if p.conjugate {
+        class.push_str(" c.c.");
+    }
+    if !p.time_ordered {
+        class.push_str(" *");
+    }
+    class
+}
+
+/// The pathway column: interactions, then the elements in the delays, then the final element
+/// when it differs from the last delay's (population detection).
+fn pathway_cell(exp: &Experiment, p: &Pathway) -> String {
+    let mut cell = render::sequence_label(exp, p);
+    let delays = render::delays_label(exp, p);
+    if !delays.is_empty() {
+        cell.push('\n');
+        cell.push_str(&delays);
+    }
+    if p.coherence_orders.is_empty() {
+        let fin = render::element_label(exp, &p.final_element);
+        if p.delays.last().map(|e| render::element_label(exp, e)) != Some(fin.clone()) {
+            cell.push_str(&format!("\nfinal {fin}"));
+        }
+    }
+    cell
 }
