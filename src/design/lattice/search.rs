@@ -237,20 +237,24 @@ fn run_in_order(
             hi = hi.min(l.index() + 1).max(lo + 1);
         }
         let best_n = best.as_ref().map(Lattice::index);
-        let report = |part: f64, tested: u64| {
+        // `found`: the smallest index of a valid lattice the running scan has met (u64::MAX
+        // before one), so the progress shows a better design as soon as it is known.
+        let report = |part: f64, tested: u64, found: u64| {
             if let Some(cb) = ctl.progress {
+                let best = best_n.map_or(found, |b| b.min(found));
+                let best = (best != u64::MAX).then_some(best);
                 cb(Progress {
                     index: lo,
                     lattices_tested: tested,
-                    best: best_n,
+                    best,
                     share_done: counts
                         .as_ref()
-                        .zip(best_n)
+                        .zip(best)
                         .map(|(c, b)| c.share(lo, hi, part, b)),
                 });
             }
         };
-        report(0.0, tested);
+        report(0.0, tested, u64::MAX);
         let cancelled_out = |best: Option<Lattice>, lo: u64, tested: u64| match best {
             Some(l) => finish(l, false, lo, tested),
             None => SearchOutcome::NotFound {
@@ -271,11 +275,20 @@ fn run_in_order(
         }
         let before = tested;
         let bound = best_n.unwrap_or(u64::MAX);
-        let (found, t, cancelled) = scan(&engine, (lo, hi, bound), limit, ctl.cancel, &|part| {
-            report(part, before)
-        });
+        let (found, t, cancelled) = scan(
+            &engine,
+            (lo, hi, bound),
+            limit,
+            ctl.cancel,
+            &|part, found| report(part, before, found),
+        );
         tested += t;
         if cancelled {
+            // A valid lattice the interrupted scan met beats the seed (not proven minimal).
+            let better = found
+                .first()
+                .filter(|l| best_n.is_none_or(|b| l.index() < b));
+            let best = better.cloned().or(best);
             return Ok((cancelled_out(best, lo, tested), vec![]));
         }
         if let Some(first) = found.first() {
@@ -312,7 +325,7 @@ fn scan(
     (lo, hi, bound): (u64, u64, u64),
     limit: usize,
     cancel: &AtomicBool,
-    on_task: &(dyn Fn(f64) + Sync),
+    on_task: &(dyn Fn(f64, u64) + Sync),
 ) -> (Vec<Lattice>, u64, bool) {
     let best = AtomicU64::new(bound);
     let split = if engine.n >= 3 { Some(2) } else { None };
@@ -329,7 +342,10 @@ fn scan(
             let mut s = Sink::new(limit, &best, cancel);
             engine.dfs(node, lo, hi, &mut s);
             let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-            on_task(k as f64 / tasks.len() as f64);
+            on_task(
+                k as f64 / tasks.len() as f64,
+                best.load(std::sync::atomic::Ordering::Relaxed),
+            );
             (s.found, s.tested)
         })
         .collect();
