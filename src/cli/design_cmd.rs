@@ -228,7 +228,8 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
 /// The mark an interrupted design's cycle file carries (first note).
 fn not_proven_note(excluded_below: u64) -> String {
     format!(
-        "NOT PROVEN MINIMAL: the design search was interrupted; no lattice design has fewer than {excluded_below} steps, but a shorter one may exist between that and this cycle's length (exit code {})",
+        "NOT PROVEN MINIMAL: the design search was interrupted; {}, but a shorter one may exist below this cycle's length (exit code {})",
+        pathsieve::render::design_summary::excluded_text(excluded_below),
         signals::EXIT_NOT_PROVEN
     )
 }

@@ -161,7 +161,19 @@ fn proof_text(r: &DesignReport) -> String {
         };
         format!(" Minimality is proven among lattice designs{layouts} (nested and cogwheel cycles included): every one with fewer steps was ruled out (tested, or the image of a tested one under a symmetry of the problem); weighted non-lattice step sets are a separate class, searched only as far as the note below says.")
     } else {
-        format!(" The search was interrupted: this design is NOT proven minimal; no lattice design has fewer than {} steps.", r.excluded_below)
+        format!(
+            " The search was interrupted: this design is NOT proven minimal; {}.",
+            excluded_text(r.excluded_below)
+        )
+    }
+}
+
+/// What an interrupted search proved: the lengths it excluded, or that it excluded none.
+pub fn excluded_text(below: u64) -> String {
+    if below <= 1 {
+        "no length was excluded yet".into()
+    } else {
+        format!("no lattice design has fewer than {below} steps")
     }
 }
 
@@ -219,13 +231,11 @@ fn refusal_text(r: &DesignReport, refusal: &Refusal) -> String {
             } else {
                 ""
             };
-            let why = if r.cancelled {
-                format!(
-                    "the search was interrupted; no lattice design has fewer than {} steps",
-                    r.excluded_below
-                )
-            } else {
-                "every one was tested".into()
+            let why = match (r.cancelled, r.excluded_below) {
+                (true, below) => {
+                    format!("the search was interrupted; {}", excluded_text(below))
+                }
+                (false, _) => "every one was ruled out".into(),
             };
             let wider = match &r.beyond {
                 Some(b) => format!("\n  Weighted step sets (the wider class): {}.", b.note),
