@@ -191,6 +191,21 @@ fn run(
     Ok((outcome, found))
 }
 
+/// The search without the symmetry reduction, in the problem's own field order: the plain
+/// exhaustive scan the reduced one must agree with (tests only).
+#[cfg(test)]
+pub(crate) fn search_unreduced(
+    problem: &LatticeProblem,
+    ctl: &SearchControl,
+) -> Result<SearchOutcome, DesignError> {
+    problem.validate()?;
+    let red = problem.reduce();
+    if let Some(o) = impossible(problem, &red) {
+        return Ok(o);
+    }
+    run_in_order(problem, &red, Vec::new(), ctl, 1).map(|(o, _)| o)
+}
+
 /// The search proper, with the fields in the engine's order (`field_order`).
 fn run_in_order(
     problem: &LatticeProblem,
