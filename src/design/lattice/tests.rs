@@ -689,7 +689,6 @@ fn the_symmetry_reduction_keeps_the_minimum_of_the_plain_scan() {
         assert_eq!(a.steps, b.steps, "{} symmetries", syms.len());
         assert!(b.proven_minimal && is_valid(&p, &b.lattice));
         check_numerically(&p, &b);
-        assert!(b.lattices_tested <= a.lattices_tested);
         with_symmetries += usize::from(!syms.is_empty());
     }
     assert!(with_symmetries >= 3, "{with_symmetries}");
