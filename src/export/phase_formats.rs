@@ -28,7 +28,7 @@ fn csv_name(s: &str) -> String {
 }
 
 /// Phase CSV: the metadata comment lines, a header `step,FIELD...`, one row per step
-/// (`step` counts rows 0-based in export order).
+/// (`step` counts rows from 1 in export order, as the cycle tables and every message do).
 pub fn phases_csv(list: &PhaseList, cells: &[Vec<Cell>], meta: &ExportMeta) -> Vec<u8> {
     let mut s = meta.csv_comments();
     s.push_str("step");
@@ -38,7 +38,7 @@ pub fn phases_csv(list: &PhaseList, cells: &[Vec<Cell>], meta: &ExportMeta) -> V
     }
     s.push('\n');
     for (m, row) in cells.iter().enumerate() {
-        s.push_str(&m.to_string());
+        s.push_str(&(m + 1).to_string());
         for c in row {
             s.push(',');
             s.push_str(&cell_text(c));
@@ -62,7 +62,7 @@ pub fn weights_csv(list: &PhaseList, meta: &ExportMeta) -> Vec<u8> {
     }
     s.push('\n');
     for (m, (w, t)) in list.weights.iter().zip(&list.weight_texts).enumerate() {
-        let _ = write!(s, "{m}");
+        let _ = write!(s, "{}", m + 1);
         for (z, text) in w.iter().zip(t) {
             let (re, im) = (crate::numfmt::decimal(z.re), crate::numfmt::decimal(z.im));
             let _ = write!(s, ",{re},{im},{}", csv_name(text));

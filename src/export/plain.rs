@@ -81,12 +81,12 @@ fn table(header: &[String], rows: impl Iterator<Item = Vec<String>>, d: Delimite
     s.into_bytes()
 }
 
-/// The phase table: header `step` and the field names, one row per step (0-based `step`).
+/// The phase table: header `step` and the field names, one row per step (`step` counts from 1).
 pub fn plain_phases(list: &PhaseList, cells: &[Vec<Cell>], d: Delimiter) -> Vec<u8> {
     let mut header = vec!["step".to_string()];
     header.extend(list.fields.iter().map(|f| header_cell(f, d)));
     let rows = cells.iter().enumerate().map(|(m, r)| {
-        let mut v = vec![m.to_string()];
+        let mut v = vec![(m + 1).to_string()];
         v.extend(r.iter().map(cell_text));
         v
     });
@@ -113,7 +113,7 @@ pub fn plain_weights(list: &PhaseList, d: Delimiter) -> Vec<u8> {
         header.push(format!("{o}.im"));
     }
     let rows = list.weights.iter().enumerate().map(|(m, w)| {
-        let mut v = vec![m.to_string()];
+        let mut v = vec![(m + 1).to_string()];
         for z in w {
             v.push(decimal(z.re));
             v.push(decimal(z.im));
@@ -172,7 +172,7 @@ pub fn receiver_table(
     };
     let cells = rx.cells(unit, grid)?;
     let rows = cells.iter().zip(&amps).enumerate().map(|(m, (c, a))| {
-        let mut v = vec![m.to_string()];
+        let mut v = vec![(m + 1).to_string()];
         for (p, amp) in c.iter().zip(a) {
             v.push(cell_text(p));
             v.push(decimal(*amp));

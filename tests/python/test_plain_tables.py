@@ -55,7 +55,7 @@ def test_numpy_and_the_csv_module_read_the_plain_table_as_is(tmp_path, reference
     export(tmp_path, "--format", fmt, "--unit", "deg", "--order", "drift", "--out", out, "--weights", w)
     a = np.loadtxt(out, delimiter=delim, skiprows=1)
     assert a.shape == (27, 1 + len(reference.fields))
-    assert np.array_equal(a[:, 0], np.arange(27))
+    assert np.array_equal(a[:, 0], np.arange(1, 28))  # steps counted from 1, as in the tool's tables
     assert np.allclose(a[:, 1:], reference.phases, atol=1e-12)
     with open(out, newline="") as f:
         rows = list(csv.reader(f, delimiter=delim))
