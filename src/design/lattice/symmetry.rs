@@ -163,10 +163,11 @@ impl Walk {
 const MAX_CUT_SYMMETRIES: usize = 64;
 
 /// The symmetries the engine's cut uses: those that move the fewest fields first, at most
-/// `MAX_CUT_SYMMETRIES` of them. Any subset keeps the cut sound (see the module docs); when
-/// every permutation of some fields is a symmetry, the transpositions alone already cut as
-/// much as the whole group, since the phase-count vectors it cannot enlarge are then exactly
-/// the ones no transposition enlarges.
+/// `MAX_CUT_SYMMETRIES` of them. Any subset keeps the cut sound (see the module docs). When
+/// every permutation of some blocks of fields is a symmetry, the transpositions inside the
+/// blocks alone cut as much as all those permutations: a phase-count vector none of them can
+/// enlarge is one that never increases along a block (in the engine's field order), and
+/// those are exactly the ones no transposition enlarges.
 pub(crate) fn for_the_cut(mut symmetries: Vec<Vec<usize>>) -> Vec<Vec<usize>> {
     let moved = |p: &[usize]| p.iter().enumerate().filter(|&(i, &j)| i != j).count();
     symmetries.sort_by(|a, b| (moved(a), a).cmp(&(moved(b), b)));
