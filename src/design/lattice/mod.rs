@@ -37,6 +37,8 @@ mod search;
 mod seed;
 mod symmetry;
 #[cfg(test)]
+mod symmetry_tests;
+#[cfg(test)]
 mod tests;
 
 pub use enumerate::{sublattice_count, sublattices, Sublattices};

@@ -6,12 +6,16 @@
 //! Preference among lattices of the minimal index (deterministic): a nested cycle
 //! if one exists (the lexicographically smallest step-count tuple), else the first
 //! valid lattice in engine order: HNF diagonal tuple `(h_00, ..., h_nn)`
-//! lexicographically smallest, then the off-diagonal entries read row by row.
+//! lexicographically smallest, then the off-diagonal entries read row by row. Both
+//! orders are read in the engine's field order (`field_order`), and only among the
+//! lattices the symmetry cut keeps.
 //!
 //! Exhaustiveness: windows `[lo, 2 lo)` of indices are scanned in turn; inside a
 //! window every HNF whose rows pass the prefix tests is generated, and a prefix is
 //! only cut when a forbidden difference (or grid, cap or kept condition) already
-//! decided by its rows fails, which no completion can repair.
+//! decided by its rows fails, which no completion can repair, or when a field symmetry
+//! of the problem gives every lattice below it a lexicographically larger phase-count
+//! vector (`symmetry`): each orbit keeps its members with the largest vector.
 
 use std::sync::atomic::{AtomicBool, AtomicU64};
 
@@ -24,7 +28,7 @@ use super::field_order::{engine_order, permuted, restored, symmetries_in_order};
 use super::hnf::Lattice;
 use super::problem::{normalise, LatticeProblem, Reduced};
 use super::seed::{greedy_nested_steps, korobov_seed, nested_seed};
-use super::symmetry::field_symmetries;
+use super::symmetry::{field_symmetries, for_the_cut};
 use super::DesignError;
 
 /// Progress report: the index being scanned and candidate rows tested so far.
@@ -139,7 +143,9 @@ pub fn search(problem: &LatticeProblem, ctl: &SearchControl) -> Result<SearchOut
 }
 
 /// Up to `limit` valid lattices of the minimal index, in engine order (empty if the
-/// search does not find one or is cancelled).
+/// search does not find one or is cancelled). These are the lattices the symmetry cut keeps:
+/// with `limit` large enough at least one of every orbit under the problem's field
+/// symmetries (`symmetry`), not every lattice of the minimal index.
 pub fn all_minimal(
     problem: &LatticeProblem,
     limit: usize,
@@ -168,7 +174,12 @@ fn run(
     if let Some(o) = impossible(problem, &red) {
         return Ok((o, vec![]));
     }
-    let symmetries = field_symmetries(problem.dims, &red.forb, &red.req, &problem.grid);
+    let symmetries = for_the_cut(field_symmetries(
+        problem.dims,
+        &red.forb,
+        &red.req,
+        &problem.grid,
+    ));
     let order = engine_order(problem.dims, &symmetries);
     if order.iter().enumerate().all(|(p, &j)| p == j) {
         return run_in_order(problem, &red, symmetries, ctl, limit);
