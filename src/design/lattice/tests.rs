@@ -409,20 +409,7 @@ proptest! {
     // numerical evaluation of F.
     #[test]
     fn search_agrees_with_brute_force(p in small_problem()) {
-        let cancel = AtomicBool::new(false);
-        let out = search(&p, &SearchControl::new(&cancel)).unwrap();
-        let brute_min = (1..=p.max_steps).find(|&n| sublattices(p.dims, n).any(|l| is_valid(&p, &l)));
-        match out {
-            SearchOutcome::Found(d) => {
-                prop_assert!(d.proven_minimal);
-                prop_assert!(is_valid(&p, &d.lattice));
-                prop_assert_eq!(Some(d.steps), brute_min);
-                check_numerically(&p, &d);
-            }
-            SearchOutcome::NotFound { .. } | SearchOutcome::Aliased { .. } | SearchOutcome::Inseparable { .. } => {
-                prop_assert_eq!(brute_min, None);
-            }
-        }
+        agrees_with_brute_force(&p)?;
     }
 }
 
@@ -598,21 +585,33 @@ proptest! {
     // brute force over every sublattice, and every listed minimal lattice is valid.
     #[test]
     fn symmetry_reduced_search_agrees_with_brute_force(p in symmetric_problem()) {
-        let cancel = AtomicBool::new(false);
-        let out = search(&p, &SearchControl::new(&cancel)).unwrap();
-        let brute_min = (1..=p.max_steps).find(|&n| sublattices(p.dims, n).any(|l| is_valid(&p, &l)));
-        match out {
-            SearchOutcome::Found(d) => {
-                prop_assert!(d.proven_minimal);
-                prop_assert!(is_valid(&p, &d.lattice));
-                prop_assert_eq!(Some(d.steps), brute_min);
-                check_numerically(&p, &d);
-                let all = all_minimal(&p, 20, &SearchControl::new(&cancel)).unwrap();
-                prop_assert!(all.iter().all(|l| l.index() == d.steps && is_valid(&p, l)));
-            }
-            SearchOutcome::NotFound { .. } | SearchOutcome::Aliased { .. } | SearchOutcome::Inseparable { .. } => {
-                prop_assert_eq!(brute_min, None);
-            }
+        if let Some(steps) = agrees_with_brute_force(&p)? {
+            let cancel = AtomicBool::new(false);
+            let all = all_minimal(&p, 20, &SearchControl::new(&cancel)).unwrap();
+            prop_assert!(all.iter().all(|l| l.index() == steps && is_valid(&p, l)));
+        }
+    }
+}
+
+/// The search's outcome against brute force over the plain enumerator and a numerical
+/// evaluation of F: the minimal number of steps when there is a design.
+fn agrees_with_brute_force(p: &LatticeProblem) -> Result<Option<u64>, TestCaseError> {
+    let cancel = AtomicBool::new(false);
+    let out = search(p, &SearchControl::new(&cancel)).unwrap();
+    let brute_min = (1..=p.max_steps).find(|&n| sublattices(p.dims, n).any(|l| is_valid(p, &l)));
+    match out {
+        SearchOutcome::Found(d) => {
+            prop_assert!(d.proven_minimal);
+            prop_assert!(is_valid(p, &d.lattice));
+            prop_assert_eq!(Some(d.steps), brute_min);
+            check_numerically(p, &d);
+            Ok(Some(d.steps))
+        }
+        SearchOutcome::NotFound { .. }
+        | SearchOutcome::Aliased { .. }
+        | SearchOutcome::Inseparable { .. } => {
+            prop_assert_eq!(brute_min, None);
+            Ok(None)
         }
     }
 }
