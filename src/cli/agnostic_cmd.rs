@@ -1,6 +1,6 @@
 //! `pathsieve agnostic`: the level-scheme-independent rejection set through an order.
 
-use super::output::{print, print_json, table};
+use super::output::{print_json, print_report, table};
 use anyhow::Context;
 use clap::Args;
 use pathsieve::agnostic::agnostic_set;
@@ -78,7 +78,7 @@ pub fn run(a: AgnosticArgs) -> anyhow::Result<u8> {
             ex.join(" "),
         ]);
     }
-    print(&format!(
+    print_report(&format!(
         "agnostic rejection set through order {k} over fields {} (sum b = 0, sum |b| <= {}), wanted removed: {} signatures\n{t}\n",
         exp.field_names().join(", "),
         k + u32::from(exp.has_reference()),

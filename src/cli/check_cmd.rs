@@ -2,7 +2,7 @@
 //! flags into a [`CheckRequest`], calls the library and renders the report as tables or JSON.
 //! Exit code 0 when clean through the order, 1 when anything leaks.
 
-use super::output::{print, print_json, table, RejectionArgs};
+use super::output::{print_json, print_report, table, RejectionArgs};
 use anyhow::{bail, Context};
 use clap::Args;
 use pathsieve::check::ImpactRequest;
@@ -156,7 +156,7 @@ pub fn run(a: CheckArgs) -> anyhow::Result<u8> {
     if a.json {
         print_json(&report)?;
     } else {
-        print(&render(&report))?;
+        print_report(&render(&report))?;
     }
     Ok(if report.clean { 0 } else { 1 })
 }

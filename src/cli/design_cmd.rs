@@ -220,7 +220,7 @@ pub fn run(a: DesignArgs) -> anyhow::Result<u8> {
     if to_stdout {
         eprint!("{out}");
     } else {
-        print(&out)?;
+        super::output::print_report(&out)?;
     }
     Ok(code)
 }

@@ -13,6 +13,71 @@ pub fn print(text: &str) -> anyhow::Result<()> {
     Ok(())
 }
 
+/// Write a human-readable report to stdout with its prose lines wrapped at spaces to the
+/// tables' width (the terminal's, or [`DEFAULT_TABLE_WIDTH`] columns when stdout is not a
+/// terminal); table lines are already that wide and are left alone. A wrapped line continues
+/// two columns further in than it started.
+pub fn print_report(text: &str) -> anyhow::Result<()> {
+    let width = usize::from(table(&[]).width().unwrap_or(DEFAULT_TABLE_WIDTH));
+    print(&wrap_prose(text, width))
+}
+
+/// The text with every line longer than `width` (that is not a table line) wrapped at spaces.
+fn wrap_prose(text: &str, width: usize) -> String {
+    let mut out = String::with_capacity(text.len() + text.len() / 40);
+    for line in text.split_inclusive('\n') {
+        let body = line.trim_end_matches(['\n', '\r']);
+        let is_table = body.starts_with(['┌', '│', '├', '└', '╞', '║']);
+        if is_table || body.chars().count() <= width {
+            out.push_str(line);
+            continue;
+        }
+        let indent = body.len() - body.trim_start().len();
+        let next = " ".repeat(indent + 2);
+        let opts = textwrap::Options::new(width)
+            .subsequent_indent(&next)
+            .break_words(false);
+        for (i, piece) in textwrap::wrap(body, opts).iter().enumerate() {
+            if i > 0 {
+                out.push('\n');
+            }
+            out.push_str(piece);
+        }
+        out.push_str(&line[body.len()..]);
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::wrap_prose;
+
+    #[test]
+    fn prose_wraps_at_spaces_and_tables_stay() {
+        let text = "12 steps: a nested cycle that keeps R and cancels every rejected term through order four\n│ table line that is long enough to pass the width of the terminal easily ok │\n  - a note\n";
+        let out = wrap_prose(text, 40);
+        let lines: Vec<&str> = out.lines().collect();
+        assert!(
+            lines
+                .iter()
+                .all(|l| l.starts_with('│') || l.chars().count() <= 40),
+            "{out}"
+        );
+        assert!(lines
+            .iter()
+            .any(|l| l.starts_with('│') && l.chars().count() > 40));
+        // The paragraph's continuation lines are indented by two columns.
+        assert!(
+            lines[1].starts_with("  ") && !lines[1].starts_with("   "),
+            "{out}"
+        );
+        assert!(out.ends_with("  - a note\n"));
+        // Nothing is lost or reordered: the words read back the same.
+        let words = |s: &str| s.split_whitespace().map(str::to_owned).collect::<Vec<_>>();
+        assert_eq!(words(&out), words(text));
+    }
+}
+
 /// Write bytes to stdout, flushing (as [`print`]).
 pub fn print_bytes(bytes: &[u8]) -> anyhow::Result<()> {
     let mut out = std::io::stdout().lock();

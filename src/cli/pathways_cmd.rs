@@ -290,7 +290,7 @@ pub fn run(a: PathwaysArgs) -> anyhow::Result<u8> {
     if let Some(note) = pathsieve::caveats::reordered_note(&exp, &resolved) {
         out.push_str(&format!("note: {note}\n"));
     }
-    print(&out)?;
+    super::output::print_report(&out)?;
     Ok(0)
 }
 

@@ -57,3 +57,30 @@ pub fn numpy_available() -> bool {
         .map(|o| o.status.success())
         .unwrap_or(false)
 }
+
+/// The human report with its wrapped prose rejoined (the CLI wraps prose at 80 columns when
+/// stdout is not a terminal, continuing a line two columns further in): a line indented deeper
+/// than the line it follows and not starting a `- ` item continues it.
+#[allow(dead_code)]
+pub fn unwrapped(out: &str) -> String {
+    let mut lines: Vec<String> = Vec::new();
+    let indent = |l: &str| l.len() - l.trim_start().len();
+    for l in out.lines() {
+        let table = |s: &str| s.starts_with(['┌', '│', '├', '└', '╞']);
+        match lines.last_mut() {
+            Some(prev)
+                if !l.trim().is_empty()
+                    && !prev.trim().is_empty()
+                    && !table(l)
+                    && !table(prev)
+                    && indent(l) >= indent(prev) + 2
+                    && !l.trim_start().starts_with("- ") =>
+            {
+                prev.push(' ');
+                prev.push_str(l.trim_start());
+            }
+            _ => lines.push(l.to_string()),
+        }
+    }
+    lines.join("\n") + "\n"
+}
