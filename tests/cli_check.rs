@@ -3,9 +3,7 @@
 
 mod common;
 
-fn run(args: &[&str]) -> (i32, String, String) {
-    common::run_cli(args)
-}
+use common::run_cli as run;
 
 // Nested 1x3x3x3 on the fluorescence 2D experiment: clean, first leak order 6 (Tan, J. Chem.
 // Phys. 129, 124501 (2008), from memory; order 6 by hand computation).

@@ -3,9 +3,7 @@
 
 mod common;
 
-fn run(args: &[&str]) -> (i32, String, String) {
-    common::run_cli(args)
-}
+use common::run_cli as run;
 
 #[test]
 fn a_designed_cycle_file_passes_the_checker_unchanged() {

@@ -5,26 +5,16 @@
 
 mod common;
 
+use common::{path_arg as s, root, run_cli as run};
+
 use pathsieve::check::{check_cycle, CheckRequest};
 use pathsieve::cycle::read_cycle;
 use pathsieve::experiment_file::read_experiment;
 use pathsieve::export::npy::NpyData;
 use pathsieve::export::npz::{read_npz, read_npz_text};
 use std::io::Write;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::{Command, Stdio};
-
-fn run(args: &[&str]) -> (i32, String, String) {
-    common::run_cli(args)
-}
-
-fn root(p: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join(p)
-}
-
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
-}
 
 const DYE: &str = "schemes/dye-fluorescence-2d.toml";
 const CASES: &[(&str, &str)] = &[

@@ -5,6 +5,8 @@
 
 mod common;
 
+use common::path_arg as s;
+
 use num_complex::Complex64;
 use pathsieve::export::npy::{read_npy, NpyData};
 use rustfft::FftPlanner;
@@ -14,8 +16,16 @@ const EXP: &str = "schemes/carbonyl-pump-probe.toml";
 const CYC: &str = "schemes/carbonyl-2x2.cycle.toml";
 const SHAPER: &str = "schemes/carbonyl-shaper.toml";
 
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
+/// `pathsieve export` of the carbonyl 2x2 cycle as shaper masks (`format`) over the delay
+/// scans given, written to `out`, with any further arguments.
+fn export_masks(format: &str, scans: &[&str], out: &Path, extra: &[&str]) -> (i32, String, String) {
+    let mut args = vec!["export", EXP, CYC, "--format", format, "--shaper", SHAPER];
+    for scan in scans {
+        args.extend(["--scan", scan]);
+    }
+    args.extend(["--out", s(out)]);
+    args.extend_from_slice(extra);
+    common::run_cli(&args)
 }
 
 /// The two largest bins of the forward DFT of one mask (the field in time with the transform
@@ -35,19 +45,7 @@ fn a_t1_scan_gives_every_mask_with_its_peaks_at_the_requested_delay() {
     let d = tempfile::tempdir().unwrap();
     let out = d.path().join("scan.npy");
     // 128 pixels of 0.025 THz: one DFT bin is 1 / (128 x 0.025 THz) = 312.5 fs.
-    let (code, _, err) = common::run_cli(&[
-        "export",
-        EXP,
-        CYC,
-        "--format",
-        "mask-npy",
-        "--shaper",
-        SHAPER,
-        "--scan",
-        "pu2=0:312.5:3125",
-        "--out",
-        s(&out),
-    ]);
+    let (code, _, err) = export_masks("mask-npy", &["pu2=0:312.5:3125"], &out, &[]);
     assert_eq!(code, 0, "{err}");
     let a = read_npy(&std::fs::read(&out).unwrap()).unwrap();
     assert_eq!(a.shape, [11, 4, 128]);
@@ -73,19 +71,7 @@ fn a_t1_scan_gives_every_mask_with_its_peaks_at_the_requested_delay() {
     assert_eq!(meta["pixel_freqs_thz"].as_array().unwrap().len(), 128);
     // One CSV per delay.
     let csv = d.path().join("m.csv");
-    let (code, _, err) = common::run_cli(&[
-        "export",
-        EXP,
-        CYC,
-        "--format",
-        "mask-csv",
-        "--shaper",
-        SHAPER,
-        "--scan",
-        "pu2=0,600",
-        "--out",
-        s(&csv),
-    ]);
+    let (code, _, err) = export_masks("mask-csv", &["pu2=0,600"], &csv, &[]);
     assert_eq!(code, 0, "{err}");
     for p in ["m.delay0.csv", "m.delay1.csv"] {
         let t = std::fs::read_to_string(d.path().join(p)).unwrap();
@@ -102,24 +88,12 @@ fn aliasing_is_refused_exactly_past_half_a_turn_per_pixel() {
     let d = tempfile::tempdir().unwrap();
     let out = d.path().join("a.npy");
     let run = |delays: &str, allow: bool| {
-        let mut args = vec![
-            "export",
-            EXP,
-            CYC,
-            "--format",
-            "mask-npy",
-            "--shaper",
-            SHAPER,
-            "--scan",
-            delays,
-            "--out",
-            s(&out),
-            "--force",
-        ];
-        if allow {
-            args.push("--allow-aliasing");
-        }
-        common::run_cli(&args)
+        let extra: &[&str] = if allow {
+            &["--force", "--allow-aliasing"]
+        } else {
+            &["--force"]
+        };
+        export_masks("mask-npy", &[delays], &out, extra)
     };
     // 0.025 THz per pixel: half a turn per pixel at 20 ps.
     let (code, _, err) = run("pu2=19000,20000", false);
@@ -142,21 +116,7 @@ fn a_scan_above_the_size_limit_is_refused_before_any_work() {
     let d = tempfile::tempdir().unwrap();
     let out = d.path().join("m.csv");
     // 5001 x 5001 delay points: above the 2^24 mask values before a single mask is made.
-    let (code, _, err) = common::run_cli(&[
-        "export",
-        EXP,
-        CYC,
-        "--format",
-        "mask-csv",
-        "--shaper",
-        SHAPER,
-        "--scan",
-        "pu1=0:1:5000",
-        "--scan",
-        "pu2=0:1:5000",
-        "--out",
-        s(&out),
-    ]);
+    let (code, _, err) = export_masks("mask-csv", &["pu1=0:1:5000", "pu2=0:1:5000"], &out, &[]);
     assert_eq!(code, 2);
     assert!(err.contains("exceed the limit"), "{err}");
     assert_eq!(std::fs::read_dir(d.path()).unwrap().count(), 0);

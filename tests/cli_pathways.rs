@@ -3,11 +3,9 @@
 
 mod common;
 
-use std::path::Path;
+use common::run_cli as run;
 
-fn run(args: &[&str]) -> (i32, String, String) {
-    common::run_cli(args)
-}
+use std::path::Path;
 
 fn write(dir: &Path, name: &str, text: &[u8]) -> String {
     let p = dir.join(name);

@@ -4,6 +4,8 @@
 
 mod common;
 
+use common::{path_arg as s, root, run_cli as run};
+
 use num_complex::Complex64;
 use pathsieve::check::{check_cycle, CheckReport, CheckRequest};
 use pathsieve::cycle::{read_cycle, Cycle};
@@ -12,20 +14,8 @@ use pathsieve::export::npy::{read_npy, NpyData};
 use pathsieve::export::phase_import::{
     read_phase_list_csv, read_phase_list_json, read_phase_list_npy,
 };
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::process::Command;
-
-fn run(args: &[&str]) -> (i32, String, String) {
-    common::run_cli(args)
-}
-
-fn root(p: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join(p)
-}
-
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
-}
 
 /// The parts of a verdict that must survive a round trip.
 /// (clean, first leak order, per output: name, clean, leak count, kept count).

@@ -4,11 +4,9 @@
 
 mod common;
 
-use std::path::{Path, PathBuf};
+use common::path_arg as s;
 
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
-}
+use std::path::{Path, PathBuf};
 
 fn entries(dir: &Path) -> Vec<String> {
     let mut v: Vec<String> = std::fs::read_dir(dir)

@@ -28,11 +28,19 @@ pub const TWO_LEVEL: &str =
 /// A three-level ladder g-e-f.
 pub const LADDER: &str = "[levels]\nstates = [{ name = \"g\", manifold = 0 }, { name = \"e\", manifold = 1 }, { name = \"f\", manifold = 2 }]\n";
 
+/// A path in the repository (relative to its root).
+pub fn root(p: &str) -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(p)
+}
+
 /// Path of a bundled scheme.
 pub fn scheme(name: &str) -> std::path::PathBuf {
-    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("schemes")
-        .join(name)
+    root("schemes").join(name)
+}
+
+/// A path as a command-line argument (the test paths are UTF-8).
+pub fn path_arg(p: &std::path::Path) -> &str {
+    p.to_str().unwrap()
 }
 
 /// Run the binary with arguments; returns (exit code, stdout, stderr).
