@@ -9,7 +9,7 @@
 //! mapped back to the problem's own field order before anyone sees them.
 
 use super::hnf::Lattice;
-use super::problem::{LatticeProblem, OutputSpec};
+use super::problem::{normalise, sort_forbidden, LatticeProblem, OutputSpec};
 
 /// `order[p]`: the problem field the engine handles at position p. Fields in orbits of two or
 /// more come first (orbits by their smallest field, fields in problem order inside one), the
@@ -55,6 +55,22 @@ pub(crate) fn permuted(problem: &LatticeProblem, order: &[usize]) -> LatticeProb
         max_steps: problem.max_steps,
         max_phases_per_field: problem.max_phases_per_field,
     }
+}
+
+/// The reduced forbidden and required differences with their fields taken in `order`:
+/// sign-normalised and sorted as `LatticeProblem::reduce` leaves them (a permutation maps
+/// distinct classes to distinct classes, so nothing repeats).
+pub(crate) fn permuted_differences(
+    forb: &[Vec<i64>],
+    req: &[Vec<i64>],
+    order: &[usize],
+) -> (Vec<Vec<i64>>, Vec<Vec<i64>>) {
+    let take = |v: &Vec<i64>| normalise(&order.iter().map(|&j| v[j]).collect::<Vec<i64>>());
+    let mut forb: Vec<Vec<i64>> = forb.iter().map(take).collect();
+    sort_forbidden(&mut forb);
+    let mut req: Vec<Vec<i64>> = req.iter().map(take).collect();
+    req.sort();
+    (forb, req)
 }
 
 /// Symmetries (as `pi_inv` in problem fields) rewritten for the engine's positions.

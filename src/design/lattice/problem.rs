@@ -129,7 +129,7 @@ impl LatticeProblem {
             }
         }
         let mut forb: Vec<Vec<i64>> = forbidden.iter().map(|f| normalise(&f.diff)).collect();
-        forb.sort_by(|a, b| l1(a).cmp(&l1(b)).then_with(|| a.cmp(b)));
+        sort_forbidden(&mut forb);
         forb.dedup();
         let mut req: Vec<Vec<i64>> = req
             .iter()
@@ -144,6 +144,12 @@ impl LatticeProblem {
             req,
         }
     }
+}
+
+/// The order the engine meets forbidden differences in: shortest (l1) first, then
+/// lexicographic.
+pub(crate) fn sort_forbidden(forb: &mut [Vec<i64>]) {
+    forb.sort_by(|a, b| l1(a).cmp(&l1(b)).then_with(|| a.cmp(b)));
 }
 
 /// `a - b` componentwise.

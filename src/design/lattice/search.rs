@@ -24,7 +24,9 @@ use rayon::prelude::*;
 
 use super::engine::{order_key, Engine, Sink};
 use super::enumerate::LatticeCounts;
-use super::field_order::{engine_order, permuted, restored, symmetries_in_order};
+use super::field_order::{
+    engine_order, permuted, permuted_differences, restored, symmetries_in_order,
+};
 use super::hnf::Lattice;
 use super::problem::{normalise, LatticeProblem, Reduced};
 use super::seed::{greedy_nested_steps, korobov_seed, nested_seed};
@@ -182,11 +184,12 @@ fn run(
     ));
     let order = engine_order(problem.dims, &symmetries);
     if order.iter().enumerate().all(|(p, &j)| p == j) {
-        return run_in_order(problem, &red, symmetries, ctl, limit);
+        return run_in_order(problem, (&red.forb, &red.req), symmetries, ctl, limit);
     }
     let inner = permuted(problem, &order);
+    let (forb, req) = permuted_differences(&red.forb, &red.req, &order);
     let inner_syms = symmetries_in_order(&symmetries, &order);
-    let (outcome, found) = run_in_order(&inner, &inner.reduce(), inner_syms, ctl, limit)?;
+    let (outcome, found) = run_in_order(&inner, (&forb, &req), inner_syms, ctl, limit)?;
     let outcome = match outcome {
         SearchOutcome::Found(d) => SearchOutcome::Found(design(
             problem,
@@ -214,21 +217,21 @@ pub(crate) fn search_unreduced(
     if let Some(o) = impossible(problem, &red) {
         return Ok(o);
     }
-    run_in_order(problem, &red, Vec::new(), ctl, 1).map(|(o, _)| o)
+    run_in_order(problem, (&red.forb, &red.req), Vec::new(), ctl, 1).map(|(o, _)| o)
 }
 
 /// The search proper, with the fields in the engine's order (`field_order`).
 fn run_in_order(
     problem: &LatticeProblem,
-    red: &Reduced,
+    (forb, req): (&[Vec<i64>], &[Vec<i64>]),
     symmetries: Vec<Vec<usize>>,
     ctl: &SearchControl,
     limit: usize,
 ) -> Result<(SearchOutcome, Vec<Lattice>), DesignError> {
     let engine = Engine::new(
         problem.dims,
-        &red.forb,
-        &red.req,
+        forb,
+        req,
         &problem.grid,
         problem.max_phases_per_field,
         symmetries,
