@@ -241,7 +241,7 @@ impl Engine {
             }
             let c = val / d;
             for i in a..b {
-                let y = level.image(i, || &forb[i], pre);
+                let y = level.image(i, &forb[i], pre);
                 alive -= mark_solutions(pre, c, &y[..r], level);
                 if alive == 0 {
                     return 0;
@@ -552,9 +552,9 @@ impl Level {
     }
 
     /// The image of forbidden difference `i` (computed on first use in this prefix).
-    fn image<'f>(&mut self, i: usize, diff: impl FnOnce() -> &'f [i64], pre: &Prefix) -> [i64; 8] {
+    fn image(&mut self, i: usize, diff: &[i64], pre: &Prefix) -> [i64; 8] {
         if self.have[i] != self.have_gen {
-            pre.image(diff(), &mut self.images[i]);
+            pre.image(diff, &mut self.images[i]);
             self.have[i] = self.have_gen;
         }
         self.images[i]
