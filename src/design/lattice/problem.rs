@@ -163,9 +163,15 @@ fn l1(v: &[i64]) -> i64 {
 
 /// Sign normalisation: the last non-zero entry positive (lattices are symmetric).
 pub(crate) fn normalise(v: &[i64]) -> Vec<i64> {
-    match v.iter().rev().find(|&&x| x != 0) {
-        Some(&x) if x < 0 => v.iter().map(|y| -y).collect(),
-        _ => v.to_vec(),
+    let mut w = v.to_vec();
+    normalise_in_place(&mut w);
+    w
+}
+
+/// [`normalise`] without allocating.
+pub(crate) fn normalise_in_place(v: &mut [i64]) {
+    if v.iter().rev().find(|&&x| x != 0).is_some_and(|&x| x < 0) {
+        v.iter_mut().for_each(|x| *x = -*x);
     }
 }
 

@@ -19,7 +19,7 @@
 
 use std::collections::HashSet;
 
-use super::problem::top;
+use super::problem::{normalise_in_place, top};
 
 /// Membership tests the symmetry search may spend before it settles for what it found (the
 /// five-field problems of the benchmark need about 16 000; on the largest agnostic sets a test
@@ -148,15 +148,8 @@ impl Walk {
             for (i, &vi) in v[..=j].iter().enumerate() {
                 image[self.pi[i]] = self.sign[i] * vi;
             }
-            // Sign-normalise in place (last non-zero entry positive), as the sets are.
-            if image
-                .iter()
-                .rev()
-                .find(|&&x| x != 0)
-                .is_some_and(|&x| x < 0)
-            {
-                image.iter_mut().for_each(|x| *x = -*x);
-            }
+            // Sign-normalised, as the sets are.
+            normalise_in_place(&mut image);
             let set = if is_req { &sets.req } else { &sets.forb };
             if !set.contains(image.as_slice()) {
                 return false;
