@@ -37,12 +37,7 @@ fn wrap_prose(text: &str, width: usize) -> String {
         let opts = textwrap::Options::new(width)
             .subsequent_indent(&next)
             .break_words(false);
-        for (i, piece) in textwrap::wrap(body, opts).iter().enumerate() {
-            if i > 0 {
-                out.push('\n');
-            }
-            out.push_str(piece);
-        }
+        out.push_str(&textwrap::fill(body, opts));
         out.push_str(&line[body.len()..]);
     }
     out
